@@ -1,0 +1,113 @@
+"""Command line: ``tenure check | life | plan | policy | compare | sweep``.
+
+Exit codes: 0 done; 2 bad input (every problem printed, no traceback);
+3 no plan fits the caps (the shortfall is printed and written).
+"""
+
+from __future__ import annotations
+
+import argparse
+import json
+import sys
+from pathlib import Path
+
+from . import __version__
+from .case import CaseError, load_case
+from .report import text
+
+EXIT_BAD_INPUT = 2
+EXIT_INFEASIBLE = 3
+
+
+class UsageError(Exception):
+    """A command-line value that is not allowed; printed as one line, exit 2."""
+
+
+def _case(path: str):
+    return load_case(Path(path))
+
+
+# ---------------------------------------------------------------------------
+def cmd_check(args) -> int:
+    case = _case(args.case)
+    print(text.case_summary(case))
+    print("\ncase is valid.")
+    return 0
+
+
+def cmd_life(args) -> int:
+    from .life import life_table
+
+    case = _case(args.case)
+    ids = [t.id for t in case.types]
+    if args.type is not None and args.type not in ids:
+        import difflib
+
+        near = difflib.get_close_matches(args.type, ids, n=1)
+        hint = f"; did you mean '{near[0]}'?" if near else ""
+        raise UsageError(f"--type {args.type!r}: no such asset type in {case.source}{hint} (types: {', '.join(ids)})")
+    if not (0 <= args.tolerance < 1):
+        raise UsageError(f"--tolerance {args.tolerance!r}: must be a fraction in [0, 1), e.g. 0.02")
+    year = case.study.start_year if args.year is None else args.year
+    if not (1900 <= year <= 2300):
+        raise UsageError(f"--year {year}: must be a calendar year")
+    chosen = [case.type(args.type)] if args.type else [t for t in case.types if t.buyable(year)] or list(case.types)
+    tables = [life_table(t, case.study.discount_rate, case.study.start_year, year, args.tolerance) for t in chosen]
+    if args.json:
+        payload = tables[0].to_dict() if len(tables) == 1 else [lt.to_dict() for lt in tables]
+        print(json.dumps(payload, indent=2))
+        return 0
+    for j, lt in enumerate(tables):
+        t = case.type(lt.type)
+        note = "" if t.buyable(year) else "  (not buyable that year)"
+        if j:
+            print()
+        print(text.life_text(lt, f"Economic life of {lt.type} ({t.class_}), bought {year}, "
+                                 f"rate {case.study.discount_rate:.2%}{note}"))
+    return 0
+
+
+# ---------------------------------------------------------------------------
+def build_parser() -> argparse.ArgumentParser:
+    p = argparse.ArgumentParser(prog="tenure", description="Fleet and asset renewal planning: economic life, "
+                                "replacement chains under changing challengers, capital-capped fleet plans.")
+    p.add_argument("--version", action="version", version=f"tenure {__version__}")
+    sub = p.add_subparsers(dest="command", metavar="COMMAND")
+
+    c = sub.add_parser("check", help="validate a case and print a one-screen summary")
+    c.add_argument("case", help="case file (TOML)")
+    c.set_defaults(func=cmd_check)
+
+    c = sub.add_parser("life", help="EAC by holding period and the economic life of each type")
+    c.add_argument("case")
+    c.add_argument("--type", help="asset type id (default: every type buyable in YEAR)")
+    c.add_argument("--year", type=int, help="purchase year (default: the study's start year)")
+    c.add_argument("--tolerance", type=float, default=0.02, help="relative width of the near-optimal band (0.02)")
+    c.add_argument("--json", action="store_true", help="print JSON instead of a table")
+    c.set_defaults(func=cmd_life)
+
+    return p
+
+
+def main(argv: list[str] | None = None) -> int:
+    parser = build_parser()
+    args = parser.parse_args(argv)
+    if not getattr(args, "func", None):
+        parser.print_help()
+        return EXIT_BAD_INPUT
+    try:
+        return int(args.func(args) or 0)
+    except CaseError as exc:
+        print(f"tenure {args.command}: the case has {len(exc.problems)} problem(s):", file=sys.stderr)
+        for prob in exc.problems:
+            print(f"  {prob}", file=sys.stderr)
+        return EXIT_BAD_INPUT
+    except UsageError as exc:
+        print(f"tenure {args.command}: {exc}", file=sys.stderr)
+        return EXIT_BAD_INPUT
+    except BrokenPipeError:  # e.g. piped into `head`
+        return 0
+
+
+if __name__ == "__main__":  # pragma: no cover
+    sys.exit(main())

@@ -1,0 +1,238 @@
+"""Economic life: stationary EAC by holding period, marginal cost, and the capitalised chain.
+
+For a unit bought at time 0 for ``P``, held ``N`` years and sold for ``S_N``,
+with O&M ``c_a`` of service year ``a`` paid at the end of that year, at
+discount rate ``i`` (docs/conventions.md):
+
+    EAC_capital(N) = P·(A/P,i,N) − S_N·(A/F,i,N)
+    EAC_om(N)      = [Σ_{a=1..N} c_a·(P/F,i,a)]·(A/P,i,N)
+    EAC(N)         = EAC_capital(N) + EAC_om(N)
+
+The *economic life* is the ``N`` of least EAC (the shortest on ties).  The
+*marginal cost* of year ``N`` is the defender's cost of keeping one more year,
+valued at the end of that year:
+
+    MC(N) = (S_{N−1} − S_N) + i·S_{N−1} + c_N,      S_0 = P
+
+(lost market value, interest on the value held, that year's O&M).
+
+References
+----------
+.. [1] W. G. Sullivan, E. M. Wicks, C. P. Koelling, *Engineering Economy*,
+   Pearson, chapter on replacement analysis (economic life of a new asset,
+   marginal cost of the defender).
+.. [2] C. S. Park, *Contemporary Engineering Economics*, Pearson, chapter on
+   replacement decisions (economic service life).
+"""
+
+from __future__ import annotations
+
+from dataclasses import dataclass
+
+import numpy as np
+
+from . import curves, money
+from .model import AssetType
+
+DEFAULT_TOLERANCE = 0.02
+
+
+@dataclass(frozen=True)
+class LifeTable:
+    """EAC of a type by holding period (one result object per computation).
+
+    Attributes
+    ----------
+    type, year : str, int
+        Type id and purchase year.
+    years : ndarray of int
+        Holding periods N = 1 … n [years].
+    eac_capital, eac_om, eac_total, marginal : ndarray
+        [money/year], one per N.
+    economic_life : int
+        N of least EAC (shortest on ties).
+    min_eac : float
+        [money/year].
+    band : tuple[int, int]
+        The run of N around the economic life whose EAC is within
+        ``tolerance`` (relative) of the minimum.
+    tolerance : float
+    """
+
+    type: str
+    year: int
+    years: np.ndarray
+    eac_capital: np.ndarray
+    eac_om: np.ndarray
+    eac_total: np.ndarray
+    marginal: np.ndarray
+    economic_life: int
+    min_eac: float
+    band: tuple[int, int]
+    tolerance: float
+
+    def to_dict(self) -> dict:
+        rows = [
+            {"years": int(n), "eac_capital": float(c), "eac_om": float(o), "eac_total": float(t), "marginal": float(m)}
+            for n, c, o, t, m in zip(self.years, self.eac_capital, self.eac_om, self.eac_total, self.marginal)
+        ]
+        return {"type": self.type, "year": int(self.year), "rows": rows, "economic_life": int(self.economic_life),
+                "min_eac": float(self.min_eac), "band": [int(self.band[0]), int(self.band[1])]}
+
+
+def eac_components(price: float, salvage, om, rate: float):
+    """EAC of capital, of O&M and in total for holding periods N = 1 … n.
+
+    Parameters
+    ----------
+    price : float
+        First cost at time 0 [money].
+    salvage : array, shape (n,)
+        Market value received at the end of year N, for N = 1 … n [money].
+    om : array, shape (n,)
+        O&M of service years 1 … n, each paid at the end of its year [money].
+    rate : float
+        Discount rate [1/year].
+
+    Returns
+    -------
+    eac_capital, eac_om, eac_total : ndarray, shape (n,)
+        [money/year].
+
+    Examples
+    --------
+    With no interest and no resale, the capital EAC is the price spread evenly
+    (common practice):
+
+    >>> cap, _, _ = eac_components(1000.0, [0.0, 0.0, 0.0, 0.0], [0, 0, 0, 0], 0.0)
+    >>> [round(x, 6) for x in cap]
+    [1000.0, 500.0, 333.333333, 250.0]
+    """
+    s = np.asarray(salvage, dtype=float)
+    c = np.asarray(om, dtype=float)
+    n = np.arange(1, len(s) + 1)
+    ap = money.ap(rate, n)
+    eac_cap = price * ap - s * money.af(rate, n)
+    pw_om = np.cumsum(c * money.pf(rate, n))
+    eac_om = pw_om * ap
+    return eac_cap, eac_om, eac_cap + eac_om
+
+
+def marginal_costs(price: float, salvage, om, rate: float) -> np.ndarray:
+    """Marginal cost of keeping a unit through year N, valued at the end of year N [money].
+
+    ``MC(N) = S_{N−1}·(1+i) − S_N + c_N`` with ``S_0 = price``.
+    """
+    s = np.asarray(salvage, dtype=float)
+    prev = np.concatenate([[price], s[:-1]])
+    return prev * (1.0 + rate) - s + np.asarray(om, dtype=float)
+
+
+def _band(eac: np.ndarray, best: int, tolerance: float) -> tuple[int, int]:
+    limit = eac[best] + abs(eac[best]) * tolerance
+    lo = best
+    while lo > 0 and eac[lo - 1] <= limit:
+        lo -= 1
+    hi = best
+    while hi < len(eac) - 1 and eac[hi + 1] <= limit:
+        hi += 1
+    return lo + 1, hi + 1
+
+
+def _argmin_first(x: np.ndarray) -> int:
+    """Index of the least value, the first on ties (within rounding noise)."""
+    m = np.min(x)
+    return int(np.flatnonzero(x <= m + 1e-9 * max(1.0, abs(m)))[0])
+
+
+def life_table(t: AssetType, rate: float, start_year: int, year: int | None = None,
+               tolerance: float = DEFAULT_TOLERANCE, frozen: bool = False) -> LifeTable:
+    """EAC by holding period for a unit of type ``t`` bought in ``year``.
+
+    Parameters
+    ----------
+    t : AssetType
+    rate : float
+        Discount rate [1/year].
+    start_year : int
+        The study's start year (base of price and O&M changes).
+    year : int, optional
+        Purchase year (default ``start_year``).
+    tolerance : float
+        Relative width of the band of near-optimal lives (0.02 = 2 %).
+    frozen : bool
+        When True the sale after N years is valued at the purchase year's
+        prices (prices frozen, as for the "continuing" end value); otherwise a
+        sale in year ``year+N`` follows that year's new price.
+    """
+    year = start_year if year is None else year
+    n = np.arange(1, t.max_age + 1)
+    p = curves.price(t, year, start_year)
+    sale_year = np.full(n.shape, year) if frozen else year + n
+    s = np.asarray(curves.market_value(t, n, sale_year, start_year))
+    c = np.asarray(curves.om(t, n, year, start_year))
+    cap, om_eac, total = eac_components(p, s, c, rate)
+    mc = marginal_costs(p, s, c, rate)
+    best = _argmin_first(total)
+    return LifeTable(type=t.id, year=year, years=n, eac_capital=cap, eac_om=om_eac, eac_total=total, marginal=mc,
+                     economic_life=best + 1, min_eac=float(total[best]), band=_band(total, best, tolerance),
+                     tolerance=tolerance)
+
+
+def capitalised_chain_cost(t: AssetType, rate: float, start_year: int, year: int) -> tuple[float, int]:
+    """Present cost at time ``year`` of an endless chain of new units of ``t`` [money].
+
+    All prices, values and O&M frozen at ``year``; each unit is kept for its
+    economic life ``N*``; the cost of the chain, first purchase included, is
+    the capitalised cost ``EAC*/i`` (common practice: the infinite identical
+    chain).  Needs ``rate > 0``.
+
+    Returns
+    -------
+    cost : float
+        [money], at time ``year``.
+    life : int
+        The economic life used [years].
+    """
+    if rate <= 0:
+        raise ValueError(f"capitalised cost needs discount rate > 0, got {rate!r}")
+    lt = life_table(t, rate, start_year, year, frozen=True)
+    return lt.min_eac / rate, lt.economic_life
+
+
+def continuing_cost(held: AssetType, age: int, vintage: int, chain_cost: float, rate: float, start_year: int,
+                    year: int) -> float:
+    """Least present cost, at time ``year``, of a held unit under the "continuing" end value [money].
+
+    The unit of type ``held`` and ``age`` is kept ``n`` more years
+    (0 ≤ n ≤ max_age − age), paying its own vintage's O&M, then sold at the
+    frozen market value and replaced by an endless chain costing
+    ``chain_cost`` (from :func:`capitalised_chain_cost`):
+
+        min_n  Σ_{j=1..n} c(age+j)·v^j − S(age+n)·v^n + v^n·chain_cost,   v = 1/(1+i)
+
+    with every market value valued at ``year``'s prices.
+    """
+    return float(continuing_costs(held, np.array([age]), vintage_of(year, np.array([age])), chain_cost, rate,
+                                  start_year, year)[0])
+
+
+def vintage_of(year: int, age):
+    """Purchase year of a unit of ``age`` at the start of ``year``."""
+    return year - np.asarray(age)
+
+
+def continuing_costs(held: AssetType, ages, vintages, chain_cost: float, rate: float, start_year: int,
+                     year: int) -> np.ndarray:
+    """Vector form of :func:`continuing_cost` over ``ages`` (with their ``vintages``) [money]."""
+    ages = np.asarray(ages, dtype=int)
+    vintages = np.asarray(vintages)
+    out = np.empty(ages.shape, dtype=float)
+    for idx, (a, v) in enumerate(zip(ages.ravel(), vintages.ravel())):
+        n = np.arange(0, held.max_age - a + 1)
+        disc = money.pf(rate, n)
+        later = a + np.arange(1, held.max_age - a + 1)
+        om_pw = np.concatenate([[0.0], np.cumsum(np.asarray(curves.om(held, later, v, start_year)) * disc[1:])])
+        sale = np.asarray(curves.market_value(held, a + n, year, start_year))
+        out.ravel()[idx] = float(np.min(om_pw + disc * (chain_cost - sale)))
+    return out
