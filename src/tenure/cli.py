@@ -67,6 +67,57 @@ def cmd_life(args) -> int:
     return 0
 
 
+def _near(value: str, allowed: list[str]) -> str:
+    import difflib
+
+    near = difflib.get_close_matches(value, allowed, n=1)
+    return f"; did you mean '{near[0]}'?" if near else ""
+
+
+def cmd_plan(args) -> int:
+    from .report.tables import write_plan
+    from .solve import solve
+
+    case = _case(args.case)
+    if args.time_limit <= 0:
+        raise UsageError(f"--time-limit {args.time_limit!r}: must be a number of seconds > 0")
+    if not (0 <= args.gap < 1):
+        raise UsageError(f"--gap {args.gap!r}: must be a fraction in [0, 1), e.g. 0.005")
+    plan = solve(case, solver=args.solver, time_limit=args.time_limit, gap=args.gap, progress=not args.quiet)
+    out = Path(args.out)
+    write_plan(plan, out)
+    _extra_writers(plan, case, out)
+    print(text.plan_summary(plan, case, str(out)))
+    return EXIT_INFEASIBLE if plan.status == "infeasible" else 0
+
+
+def _extra_writers(plan, case, out: Path) -> None:
+    """Human-facing files (report, spreadsheet) when their writers are installed."""
+    try:
+        from .report import documents
+    except ImportError:
+        return
+    documents.write_all(plan, case, out)
+
+
+def cmd_policy(args) -> int:
+    from . import chain
+
+    case = _case(args.case)
+    classes = [c for c in case.classes]
+    if args.class_ not in classes:
+        raise UsageError(f"--class {args.class_!r}: no such class in {case.source}{_near(args.class_, classes)} "
+                         f"(classes: {', '.join(classes)})")
+    ids = [t.id for t in case.types_of(args.class_)]
+    if args.type is not None and args.type not in ids:
+        raise UsageError(f"--type {args.type!r}: not a type of class {args.class_!r}{_near(args.type, ids)} "
+                         f"(types: {', '.join(ids)})")
+    g = chain.build_class_graph(case, args.class_)
+    sol = chain.backward(g)
+    print(text.policy_text(sol, case, [args.type] if args.type else ids))
+    return 0
+
+
 # ---------------------------------------------------------------------------
 def build_parser() -> argparse.ArgumentParser:
     p = argparse.ArgumentParser(prog="tenure", description="Fleet and asset renewal planning: economic life, "
@@ -86,6 +137,20 @@ def build_parser() -> argparse.ArgumentParser:
     c.add_argument("--json", action="store_true", help="print JSON instead of a table")
     c.set_defaults(func=cmd_life)
 
+    c = sub.add_parser("plan", help="least-cost renewal plan of the whole fleet (capped when the case has a budget)")
+    c.add_argument("case")
+    c.add_argument("--out", required=True, help="folder for plan.json, units.csv, years.csv and the report")
+    c.add_argument("--solver", choices=("highs", "cbc"), default="highs", help="integer-program solver (highs)")
+    c.add_argument("--time-limit", type=float, default=120.0, help="seconds for a capped solve (120)")
+    c.add_argument("--gap", type=float, default=0.005, help="relative optimality gap to stop at (0.005)")
+    c.add_argument("--quiet", action="store_true", help="no progress line")
+    c.set_defaults(func=cmd_plan)
+
+    c = sub.add_parser("policy", help="optimal keep/replace action by year and age for one class (uncapped)")
+    c.add_argument("case")
+    c.add_argument("--class", dest="class_", required=True, help="class name")
+    c.add_argument("--type", help="held type (default: every type of the class)")
+    c.set_defaults(func=cmd_policy)
     return p
 
 

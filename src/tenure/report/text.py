@@ -82,3 +82,82 @@ def life_text(lt: LifeTable, title: str = "") -> str:
     out.append("marginal = cost of keeping through year N (lost market value + interest on value held + O&M), "
                "at the end of year N")
     return "\n".join(out)
+
+
+def plan_summary(plan, case: Case, out_dir: str | None = None) -> str:
+    """The terminal summary of a plan: status, present cost, buys by class and type, capital by 5-year period."""
+    s = case.study
+    lines = [f"{s.title or 'plan'} — {plan.method}, status {plan.status}", rule()]
+    lines.append(f"present cost (time 0, {s.start_year} currency): {money(plan.present_cost)}")
+    if plan.status == "feasible":
+        lines.append(f"proven lower bound {money(plan.lower_bound)}  (gap {plan.gap:.3%})")
+    if plan.premium is not None:
+        lines.append(f"premium over the uncapped plan: {money(plan.premium)}  (uncapped {money(plan.uncapped_cost)})")
+    by_cls: dict[str, Counter] = {}
+    for u in plan.units:
+        c = by_cls.setdefault(u.class_, Counter())
+        for e in u.events:
+            c[e.type] += 1
+    lines.append("")
+    lines.append(f"{'replacements':<26}{'by type bought'}")
+    for cls in case.classes:
+        if cls not in by_cls:
+            continue
+        mix = ", ".join(f"{t} {n}" for t, n in by_cls[cls].items()) or "none"
+        lines.append(f"  {cls:<24}{sum(by_cls[cls].values()):>4}   {mix}")
+    lines.append("")
+    lines.append(f"{'period':<12}{'capital':>14}{'buys':>7}{'market value in':>18}{'O&M':>14}")
+    for k0 in range(0, s.horizon, 5):
+        ys = plan.years[k0:k0 + 5]
+        label = f"{ys[0].year}–{ys[-1].year}"
+        lines.append(f"{label:<12}{money(sum(y.capital for y in ys), 14)}{sum(y.buys for y in ys):>7}"
+                     f"{money(sum(y.salvage for y in ys), 18)}{money(sum(y.om for y in ys), 14)}")
+    capped = [y for y in plan.years if y.cap is not None]
+    tight = [y for y in capped if y.slack is not None and y.slack < 0.005 * max(y.cap, 1.0)]
+    if capped:
+        lines.append("")
+        lines.append(f"caps ({plan.basis}): {len(tight)} of {len(capped)} years at the cap"
+                     + (": " + ", ".join(str(y.year) for y in tight[:12]) if tight else ""))
+        priced = sorted((y for y in plan.years if y.shadow_price), key=lambda y: -y.shadow_price)[:5]
+        if priced:
+            lines.append("  dearest caps (present-cost saving per extra unit of money, LP relaxation): "
+                         + ", ".join(f"{y.year} {y.shadow_price:.3f}" for y in priced))
+    if plan.status == "infeasible":
+        lines.append("")
+        lines.append("NO PLAN FITS THE CAPS: units reach their max age with no money to replace them.")
+        lines.append("Raise these years' caps by at least:")
+        for y, x in plan.shortfall:
+            lines.append(f"  {y}: {money(x)}")
+        if plan.forcing_units:
+            lines.append("units whose forced replacement needs the money: " + ", ".join(plan.forcing_units[:12])
+                         + (" …" if len(plan.forcing_units) > 12 else ""))
+    if out_dir:
+        lines.append("")
+        lines.append(f"written to {out_dir}/: plan.json, units.csv, years.csv")
+    lines.append(CAUTION)
+    return "\n".join(lines)
+
+
+def policy_text(sol, case: Case, type_ids: list[str]) -> str:
+    """Optimal action by planning year (columns) and age (rows) for units of each type in ``type_ids``."""
+    from ..chain import KEEP
+
+    g = sol.graph
+    y0 = g.start_year
+    H = g.horizon
+    code = {t: chr(ord("A") + j) for j, t in enumerate(g.types)}
+    out = [f"Policy for class {g.class_}: '·' keep; a letter: sell the unit and buy that type",
+           "types: " + ", ".join(f"{code[t]} = {t}" for t in g.types)]
+    for tid in type_ids:
+        t = g.type_index(tid)
+        out.append("")
+        out.append(f"held type {tid} (max age {g.max_age[t]}); rows: age at the start of the year; "
+                   "columns: year")
+        out.append("age " + "".join(f"{(y0 + k) % 100:>3}" for k in range(H)))
+        for a in range(0, int(g.max_age[t]) + 1):
+            cells = "".join(("·" if int(sol.policy[k, t, a]) == KEEP else code[g.types[int(sol.policy[k, t, a])]])
+                            .rjust(3) for k in range(H))
+            out.append(f"{a:>3} {cells}")
+    out.append("")
+    out.append("columns are the last two digits of the calendar year; the policy ignores caps and limits")
+    return "\n".join(out)

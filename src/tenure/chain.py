@@ -1,0 +1,371 @@
+"""Replacement chains: the stage-by-age state graph of a class and its backward recursion.
+
+State graph
+-----------
+For one class, a state is ``(k, t, a)``: at time ``k`` (the start of planning
+year ``k``) a unit of type ``t`` and age ``a`` is held; its vintage is
+``start_year + k − a``.  Arcs leave every state of years ``k = 0 … H−1``:
+
+- *keep* → ``(k+1, t, a+1)``, only while ``a < max_age(t)``; cost: the O&M of
+  service year ``a+1`` of that vintage, paid at ``k+1``;
+- *replace with t'* → ``(k+1, t', 1)`` for every type ``t'`` of the class
+  buyable in year ``k``; cost: ``price(t', k) − value(t, a, k)`` at ``k`` plus
+  the new unit's first-year O&M at ``k+1``.
+
+States at ``k = H`` carry the end value (docs/conventions.md).  Every cost is
+discounted to time 0.
+
+:class:`StageGraph` holds the graph as arc-cost tables indexed by
+``(k, t, a)``, which is what makes the recursion one numpy step per stage.
+:func:`to_networkx` expands the same tables into a networkx ``DiGraph``
+(reachable states only), and the fleet integer program (``tenure.fleet``)
+enumerates its arcs from the same tables, so the solvers cannot disagree about
+arcs or costs.
+
+References
+----------
+.. [1] R. Bellman, "Equipment replacement policy", J. SIAM 3(3), 1955.
+.. [2] W. L. Winston, *Operations Research: Applications and Algorithms*,
+   network models chapter (equipment replacement as a shortest path).
+"""
+
+from __future__ import annotations
+
+from dataclasses import dataclass, field
+
+import networkx as nx
+import numpy as np
+
+from . import curves, life, money
+from .model import Case
+
+KEEP = -1
+#: relative tolerance under which two costs count as tied (keep wins, then case order)
+TIE = 1e-9
+
+
+@dataclass(frozen=True)
+class StageGraph:
+    """The state graph of one class as arc-cost tables (one per class and case).
+
+    Shapes use ``H`` planning years, ``T`` types (case order) and ages
+    ``0 … A`` with ``A`` the largest max age of the class.  Money arrays named
+    ``*_pw`` are present worth at time 0 [money]; the others are undiscounted
+    amounts in constant start-year currency [money].
+
+    Attributes
+    ----------
+    class_ : str
+    types : tuple of str
+    max_age : ndarray (T,)
+    start_year, horizon : int
+    rate : float
+    buyable : bool ndarray (H, T)
+    price : ndarray (H, T)
+        Price of a new unit bought in year k.
+    om_new : ndarray (H, T)
+        O&M of service year 1 of a unit bought in year k, paid at k+1.
+    om_keep : ndarray (H, T, A+1)
+        O&M paid at k+1 by a unit of age a kept through year k (inf where keep is not allowed).
+    value : ndarray (H+1, T, A+1)
+        Market value of a unit of age a sold at time k.
+    keep_pw, buy_pw, sale_pw : present worths of the above
+        ``keep_pw[k,t,a] = om_keep·v^(k+1)``; ``buy_pw[k,t] = price·v^k + om_new·v^(k+1)``
+        (inf where not buyable); ``sale_pw[k,t,a] = value·v^k``.
+    end_pw : ndarray (T, A+1)
+        Present cost at time 0 of holding state (H, t, a) at the end
+        ("salvage": minus the discounted market value; "continuing": the
+        discounted least cost of keeping then an endless best chain).
+    valid : bool ndarray (T, A+1)
+        Ages that exist for each type (a ≤ max_age).
+    """
+
+    class_: str
+    types: tuple[str, ...]
+    max_age: np.ndarray
+    start_year: int
+    horizon: int
+    rate: float
+    buyable: np.ndarray
+    price: np.ndarray
+    om_new: np.ndarray
+    om_keep: np.ndarray
+    value: np.ndarray
+    keep_pw: np.ndarray
+    buy_pw: np.ndarray
+    sale_pw: np.ndarray
+    end_pw: np.ndarray
+    valid: np.ndarray
+    end_value: str = "salvage"
+    chain_cost: float | None = None
+    chain_type: str | None = None
+
+    @property
+    def ages(self) -> int:
+        """Number of age columns (A+1)."""
+        return self.valid.shape[1]
+
+    def type_index(self, type_id: str) -> int:
+        return self.types.index(type_id)
+
+    def reachable(self, starts) -> np.ndarray:
+        """Bool (H+1, T, A+1): states reachable from the starting states ``[(t, a), …]``."""
+        H, (T, A1) = self.horizon, self.valid.shape
+        r = np.zeros((H + 1, T, A1), dtype=bool)
+        for t, a in starts:
+            r[0, t, a] = True
+        keep_ok = self.valid & (np.arange(A1)[None, :] < self.max_age[:, None])
+        for k in range(H):
+            r[k + 1, :, 1:] |= r[k, :, :-1] & keep_ok[:, :-1]
+            if r[k].any():
+                r[k + 1, :, 1] |= self.buyable[k]
+        return r
+
+
+def build_class_graph(case: Case, class_: str) -> StageGraph:
+    """Arc-cost tables of the state graph of ``class_`` (see module docstring).
+
+    Parameters
+    ----------
+    case : Case
+    class_ : str
+        A class of the case.
+
+    Returns
+    -------
+    StageGraph
+    """
+    s = case.study
+    H, y0, i = s.horizon, s.start_year, s.discount_rate
+    types = case.types_of(class_)
+    T = len(types)
+    A = max(t.max_age for t in types)
+    k = np.arange(H)
+    kk = np.arange(H + 1)
+    ages = np.arange(A + 1)
+    max_age = np.array([t.max_age for t in types])
+    valid = ages[None, :] <= max_age[:, None]
+    years = y0 + k
+
+    buyable = np.array([[t.buyable(int(y)) for t in types] for y in years], dtype=bool).reshape(H, T)
+    price = np.stack([np.asarray(curves.price(t, years, y0)) for t in types], axis=1)
+    om_new = np.stack([np.asarray(curves.om(t, 1, years, y0)) * np.ones(H) for t in types], axis=1)
+    # vintage of state (k, a) is y0 + k - a
+    vint = (y0 + k)[:, None] - ages[None, :]
+    om_keep = np.stack([np.asarray(curves.om(t, ages[None, :] + 1, vint, y0)) for t in types], axis=1)
+    keep_ok = valid & (ages[None, :] < max_age[:, None])
+    om_keep = np.where(keep_ok[None, :, :], om_keep, np.inf)
+    value = np.stack([np.asarray(curves.market_value(t, ages[None, :], (y0 + kk)[:, None], y0)) for t in types],
+                     axis=1)
+    value = np.where(valid[None, :, :], value, 0.0)
+
+    v = np.asarray(money.pf(i, kk))
+    keep_pw = om_keep * v[1:, None, None]
+    buy_pw = np.where(buyable, price * v[:H, None] + om_new * v[1:, None], np.inf)
+    sale_pw = value * v[:, None, None]
+
+    chain_cost = chain_type = None
+    if s.end_value == "salvage":
+        end_pw = -sale_pw[H]
+    else:
+        # frozen at year y0+H; challengers are those buyable in the last planning year
+        y_end = y0 + H
+        best = None
+        for t in types:
+            if t.buyable(y_end - 1):
+                c, _ = life.capitalised_chain_cost(t, i, y0, y_end)
+                if best is None or c < best[0] - TIE * abs(c):
+                    best = (c, t.id)
+        chain_cost, chain_type = best
+        end_pw = np.full((T, A + 1), np.inf)
+        for j, t in enumerate(types):
+            a = np.arange(t.max_age + 1)
+            end_pw[j, : t.max_age + 1] = life.continuing_costs(t, a, y_end - a, chain_cost, i, y0, y_end) * v[H]
+    end_pw = np.where(valid, end_pw, np.inf)
+    return StageGraph(class_=class_, types=tuple(t.id for t in types), max_age=max_age, start_year=y0, horizon=H,
+                      rate=i, buyable=buyable, price=price, om_new=om_new, om_keep=om_keep, value=value,
+                      keep_pw=keep_pw, buy_pw=buy_pw, sale_pw=sale_pw, end_pw=end_pw, valid=valid,
+                      end_value=s.end_value, chain_cost=chain_cost, chain_type=chain_type)
+
+
+# ---------------------------------------------------------------------------
+# backward recursion
+# ---------------------------------------------------------------------------
+@dataclass(frozen=True)
+class ChainSolution:
+    """Value function and optimal policy of one class (one result per recursion).
+
+    Attributes
+    ----------
+    value : ndarray (H+1, T, A+1)
+        Least present cost at time 0 from state (k, t, a) to the end [money];
+        inf for states that do not exist.
+    policy : int ndarray (H, T, A+1)
+        ``KEEP`` (−1) or the index of the type to buy.
+    best_buy : int ndarray (H,)
+        Type index of the best purchase in year k (−1 when none is buyable).
+    """
+
+    graph: StageGraph
+    value: np.ndarray
+    policy: np.ndarray
+    best_buy: np.ndarray
+    keep_value: np.ndarray = field(repr=False)
+    replace_value: np.ndarray = field(repr=False)
+
+
+def _first_min(x: np.ndarray) -> tuple[int, float]:
+    m = float(np.min(x))
+    if not np.isfinite(m):
+        return -1, m
+    return int(np.flatnonzero(x <= m + TIE * max(1.0, abs(m)))[0]), m
+
+
+def backward(g: StageGraph, buy_pw: np.ndarray | None = None, sale_pw: np.ndarray | None = None) -> ChainSolution:
+    """Backward recursion over the stages of ``g``, one numpy step per stage.
+
+    ``V_H = end``;  for k = H−1 … 0:
+
+        keep(k,t,a)    = keep_pw[k,t,a] + V_{k+1}(t, a+1)
+        replace(k,t,a) = min_t' (buy_pw[k,t'] + V_{k+1}(t', 1)) − sale_pw[k,t,a]
+        V_k(t,a)       = min(keep, replace)
+
+    Ties go to keep, then to the first type in case order.  ``buy_pw`` and
+    ``sale_pw`` may be given to price the arcs differently (the fleet layer's
+    Lagrangian prices); by default the graph's own costs are used.
+
+    Complexity: O(H·T·A) time and memory.
+    """
+    buy = g.buy_pw if buy_pw is None else buy_pw
+    sale = g.sale_pw if sale_pw is None else sale_pw
+    H, (T, A1) = g.horizon, g.valid.shape
+    V = np.empty((H + 1, T, A1))
+    V[H] = g.end_pw
+    pol = np.empty((H, T, A1), dtype=np.int16)
+    best = np.empty(H, dtype=np.int16)
+    keepv = np.empty((H, T, A1))
+    repv = np.empty((H, T, A1))
+    nxt_shift = np.empty((T, A1))
+    for k in range(H - 1, -1, -1):
+        nxt = V[k + 1]
+        nxt_shift[:, :-1] = nxt[:, 1:]
+        nxt_shift[:, -1] = np.inf
+        keep = g.keep_pw[k] + nxt_shift
+        j, b = _first_min(buy[k] + nxt[:, 1])
+        rep = b - sale[k]
+        use_keep = keep <= rep + TIE * np.maximum(1.0, np.abs(rep))
+        V[k] = np.where(use_keep, keep, rep)
+        V[k][~g.valid] = np.inf
+        pol[k] = np.where(use_keep, KEEP, j)
+        best[k] = j
+        keepv[k] = keep
+        repv[k] = rep
+    return ChainSolution(graph=g, value=V, policy=pol, best_buy=best, keep_value=keepv, replace_value=repv)
+
+
+@dataclass(frozen=True)
+class Step:
+    """One year of a unit's path: the state held at the start of year k and what is done."""
+
+    k: int
+    type: int
+    age: int
+    action: int  # KEEP or index of the type bought
+
+
+def follow(sol: ChainSolution, t: int, a: int, k0: int = 0) -> list[Step]:
+    """The optimal path from state (k0, t, a) to the end of the horizon."""
+    steps = []
+    for k in range(k0, sol.graph.horizon):
+        act = int(sol.policy[k, t, a])
+        steps.append(Step(k, t, a, act))
+        t, a = (t, a + 1) if act == KEEP else (act, 1)
+    return steps
+
+
+def path_cost(g: StageGraph, steps: list[Step]) -> float:
+    """Present cost at time 0 of a path (its arcs and its end state) [money]."""
+    total = 0.0
+    t = a = None
+    for st in steps:
+        if st.action == KEEP:
+            total += g.keep_pw[st.k, st.type, st.age]
+            t, a = st.type, st.age + 1
+        else:
+            total += g.buy_pw[st.k, st.action] - g.sale_pw[st.k, st.type, st.age]
+            t, a = st.action, 1
+    if t is None:
+        return float("nan")
+    return float(total + g.end_pw[t, a])
+
+
+def flexibility(sol: ChainSolution, steps: list[Step]) -> list[tuple[float | None, float | None]]:
+    """Extra present cost of doing each replacement on a path one year later and one year earlier.
+
+    For a replacement in year k from state (t, a): *defer* keeps one more year
+    and replaces in year k+1 with the best challenger then, the rest of the
+    chain re-optimised; *advance* replaces in year k−1 from (t, a−1) instead
+    of keeping.  None where the move is not possible (max age reached, the
+    year outside the horizon, or the unit bought the year before).
+
+    Returns
+    -------
+    list of (defer_cost, advance_cost), one per replacement on the path [money, time-0 present worth].
+    """
+    g = sol.graph
+    H = g.horizon
+    out = []
+    for idx, st in enumerate(steps):
+        if st.action == KEEP:
+            continue
+        k, t, a = st.k, st.type, st.age
+        here = sol.value[k, t, a]
+        defer = None
+        if k + 1 < H and a < g.max_age[t] and np.isfinite(g.keep_pw[k, t, a]):
+            later = g.keep_pw[k, t, a] + sol.replace_value[k + 1, t, a + 1]
+            if np.isfinite(later):
+                defer = max(0.0, float(later - here))
+        advance = None
+        if k >= 1 and idx >= 1 and steps[idx - 1].action == KEEP and a >= 1:
+            before = sol.replace_value[k - 1, t, a - 1]
+            if np.isfinite(before):
+                advance = max(0.0, float(before - sol.value[k - 1, t, a - 1]))
+        out.append((defer, advance))
+    return out
+
+
+# ---------------------------------------------------------------------------
+# networkx view of the same graph
+# ---------------------------------------------------------------------------
+END = "end"
+
+
+def to_networkx(g: StageGraph, starts) -> nx.DiGraph:
+    """The state graph as a networkx DiGraph, reachable states only.
+
+    Nodes are ``(k, type_id, age)`` plus a sink ``"end"``; arcs carry
+    ``weight`` (present cost at time 0 [money]), ``outlay`` (purchase price
+    [money]), ``proceeds`` (market value received [money]) and ``action``
+    (``"keep"``, ``"replace"`` or ``"end"``).  Built from the same tables as the
+    recursion.
+    """
+    r = g.reachable(starts)
+    G = nx.DiGraph()
+    H = g.horizon
+    names = g.types
+    for k in range(H):
+        ts, as_ = np.nonzero(r[k])
+        buy_types = np.flatnonzero(g.buyable[k])
+        for t, a in zip(ts.tolist(), as_.tolist()):
+            u = (k, names[t], a)
+            if a < g.max_age[t]:
+                G.add_edge(u, (k + 1, names[t], a + 1), weight=float(g.keep_pw[k, t, a]), outlay=0.0,
+                           proceeds=0.0, action="keep")
+            for t2 in buy_types.tolist():
+                G.add_edge(u, (k + 1, names[t2], 1), weight=float(g.buy_pw[k, t2] - g.sale_pw[k, t, a]),
+                           outlay=float(g.price[k, t2]), proceeds=float(g.value[k, t, a]), action="replace")
+    ts, as_ = np.nonzero(r[H])
+    for t, a in zip(ts.tolist(), as_.tolist()):
+        G.add_edge((H, names[t], a), END, weight=float(g.end_pw[t, a]), outlay=0.0,
+                   proceeds=float(g.value[H, t, a]) if g.end_value == "salvage" else 0.0, action="end")
+    return G

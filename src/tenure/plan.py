@@ -1,0 +1,256 @@
+"""The plan: one result object per solve, the same whichever solver made it.
+
+A solver hands over, for each class, the paths its units follow through the
+state graph (``chain.Step`` lists) with the unit names on each path;
+:func:`assemble` turns them into the events, the yearly totals and the present
+cost, so the recursion and the integer program are reported identically.
+Money fields are undiscounted amounts in constant start-year currency except
+``present_cost``, ``lower_bound`` and the per-unit ``present_cost`` (present
+worth at time 0; docs/conventions.md).
+"""
+
+from __future__ import annotations
+
+from collections import Counter
+from dataclasses import dataclass, field, replace
+from typing import Sequence
+
+import numpy as np
+
+from .chain import KEEP, StageGraph, Step, path_cost
+from .model import Case
+
+STATUSES = ("optimal", "feasible", "infeasible")
+
+
+@dataclass(frozen=True)
+class Event:
+    """A replacement: in ``year`` the unit of ``from_type``/``from_age`` is sold and a new ``type`` bought."""
+
+    year: int
+    action: str
+    from_type: str
+    from_age: int
+    type: str
+    price: float
+    market_value: float
+    defer_cost: float | None = None
+    advance_cost: float | None = None
+
+
+@dataclass(frozen=True)
+class UnitPlan:
+    """The schedule of one unit and its present cost [money, time 0]."""
+
+    unit: str
+    class_: str
+    start_type: str
+    start_age: int
+    events: tuple[Event, ...]
+    present_cost: float
+    end_type: str
+    end_age: int
+
+
+@dataclass(frozen=True)
+class YearRow:
+    """Totals of one planning year [money, undiscounted].
+
+    ``capital``: purchase prices paid; ``salvage``: market value received for
+    units sold; ``om``: O&M of the year (paid at its end); ``cap`` and
+    ``slack`` on the budget's basis; ``shadow_price``: present-cost saving per
+    extra unit of money in the year's cap (None when not computed).
+    """
+
+    year: int
+    buys: int
+    capital: float
+    salvage: float
+    om: float
+    cap: float | None = None
+    slack: float | None = None
+    shadow_price: float | None = None
+    buys_by_type: dict = field(default_factory=dict)
+
+
+@dataclass(frozen=True)
+class Plan:
+    """Result of a solve.
+
+    Attributes
+    ----------
+    status : str
+        "optimal", "feasible" (with a proven ``gap``) or "infeasible".
+    method : str
+        "recursion" or "integer program".
+    present_cost : float
+        Present worth at time 0 of purchases, O&M and end values less market
+        values received [money].
+    lower_bound, gap : float
+        A proven bound on the least present cost, and ``(cost − bound)/|cost|``.
+    years : tuple of YearRow
+    units : tuple of UnitPlan
+    end_year : int
+        Calendar year at which end values apply (start_year + horizon).
+    end_market_value : float
+        Market value of the units held at the end ("salvage" end value) [money at end_year].
+    by_class : dict
+        Present cost by class [money].
+    uncapped_cost : float or None
+        Present cost of the best plan without caps and limits, for the premium.
+    shortfall : tuple of (year, extra_capital)
+        Least extra capital per year that makes an infeasible case feasible.
+    """
+
+    status: str
+    method: str
+    present_cost: float
+    lower_bound: float
+    gap: float
+    years: tuple[YearRow, ...]
+    units: tuple[UnitPlan, ...]
+    end_year: int
+    end_value: str
+    end_market_value: float
+    by_class: dict
+    basis: str = "gross"
+    uncapped_cost: float | None = None
+    shortfall: tuple = ()
+    message: str = ""
+    stats: dict = field(default_factory=dict)
+    forcing_units: tuple = ()
+
+    @property
+    def success(self) -> bool:
+        return self.status in ("optimal", "feasible")
+
+    @property
+    def premium(self) -> float | None:
+        """Present-cost premium over the uncapped plan [money]."""
+        return None if self.uncapped_cost is None else self.present_cost - self.uncapped_cost
+
+    def with_(self, **kw) -> "Plan":
+        return replace(self, **kw)
+
+    def to_dict(self) -> dict:
+        """The ``plan.json`` document."""
+        d = {
+            "status": self.status,
+            "method": self.method,
+            "present_cost": _r(self.present_cost),
+            "lower_bound": _r(self.lower_bound),
+            "gap": self.gap,
+            "uncapped_cost": _r(self.uncapped_cost),
+            "premium": _r(self.premium),
+            "basis": self.basis,
+            "end": {"year": self.end_year, "rule": self.end_value, "market_value": _r(self.end_market_value)},
+            "by_class": {k: _r(v) for k, v in self.by_class.items()},
+            "years": [
+                {"year": y.year, "buys": y.buys, "capital": _r(y.capital), "salvage": _r(y.salvage), "om": _r(y.om),
+                 "cap": _r(y.cap), "slack": _r(y.slack), "shadow_price": y.shadow_price,
+                 "buys_by_type": dict(y.buys_by_type)}
+                for y in self.years
+            ],
+            "units": [
+                {"unit": u.unit, "class": u.class_, "start_type": u.start_type, "start_age": u.start_age,
+                 "present_cost": _r(u.present_cost),
+                 "events": [{"year": e.year, "action": e.action, "type": e.type, "from_type": e.from_type,
+                             "from_age": e.from_age, "price": _r(e.price), "market_value": _r(e.market_value),
+                             "defer_cost": _r(e.defer_cost), "advance_cost": _r(e.advance_cost)}
+                            for e in u.events]}
+                for u in self.units
+            ],
+            "stats": self.stats,
+            "message": self.message,
+        }
+        if self.status == "infeasible" or self.shortfall:
+            d["shortfall"] = [{"year": y, "extra_capital": _r(x)} for y, x in self.shortfall]
+            d["forcing_units"] = list(self.forcing_units)
+        return d
+
+
+def _r(x):
+    """Round money to the cent for output (None passes through)."""
+    return None if x is None else round(float(x), 2)
+
+
+@dataclass(frozen=True)
+class PathGroup:
+    """Units of one class that follow the same path, with per-event flexibility costs."""
+
+    class_: str
+    steps: tuple[Step, ...]
+    units: tuple[str, ...]
+    start: tuple[int, int]
+    flex: tuple = ()
+
+
+def assemble(case: Case, graphs: dict[str, StageGraph], groups: Sequence[PathGroup], *, status: str, method: str,
+             lower_bound: float | None = None, uncapped_cost: float | None = None, shortfall=(),
+             shadow: dict | None = None, message: str = "", stats: dict | None = None) -> Plan:
+    """Build the :class:`Plan` from unit paths: events, yearly totals, present cost."""
+    s = case.study
+    H, y0 = s.horizon, s.start_year
+    buys = np.zeros(H, dtype=int)
+    capital = np.zeros(H)
+    salvage = np.zeros(H)
+    om = np.zeros(H)
+    by_type: list[Counter] = [Counter() for _ in range(H)]
+    end_mv = 0.0
+    by_class: dict[str, float] = {c: 0.0 for c in case.classes if case.units_of(c)}
+    units: list[UnitPlan] = []
+    total = 0.0
+    for grp in groups:
+        g = graphs[grp.class_]
+        n = len(grp.units)
+        cost = path_cost(g, list(grp.steps))
+        total += n * cost
+        by_class[grp.class_] = by_class.get(grp.class_, 0.0) + n * cost
+        events = []
+        flex = iter(grp.flex)
+        t = a = None
+        for st in grp.steps:
+            if st.action == KEEP:
+                om[st.k] += n * g.om_keep[st.k, st.type, st.age]
+                t, a = st.type, st.age + 1
+                continue
+            p, mv = g.price[st.k, st.action], g.value[st.k, st.type, st.age]
+            buys[st.k] += n
+            capital[st.k] += n * p
+            salvage[st.k] += n * mv
+            om[st.k] += n * g.om_new[st.k, st.action]
+            by_type[st.k][g.types[st.action]] += n
+            d, adv = next(flex, (None, None))
+            events.append(Event(year=y0 + st.k, action="replace", from_type=g.types[st.type], from_age=st.age,
+                                type=g.types[st.action], price=float(p), market_value=float(mv),
+                                defer_cost=d, advance_cost=adv))
+            t, a = st.action, 1
+        if s.end_value == "salvage":
+            end_mv += n * g.value[H, t, a]
+        t0, a0 = grp.start
+        for name in grp.units:
+            units.append(UnitPlan(unit=name, class_=grp.class_, start_type=g.types[t0], start_age=a0,
+                                  events=tuple(events), present_cost=cost, end_type=g.types[t], end_age=int(a)))
+    order = {name: j for j, name in enumerate(_unit_order(case))}
+    units.sort(key=lambda u: order.get(u.unit, len(order)))
+    years = []
+    budget = case.budget
+    for k in range(H):
+        y = y0 + k
+        cap = budget.cap_for(y) if budget is not None else None
+        spend = capital[k] - (salvage[k] if budget is not None and budget.basis == "net" else 0.0)
+        years.append(YearRow(year=y, buys=int(buys[k]), capital=float(capital[k]), salvage=float(salvage[k]),
+                             om=float(om[k]), cap=cap, slack=None if cap is None else float(cap - spend),
+                             shadow_price=None if shadow is None else shadow.get(y),
+                             buys_by_type=dict(sorted(by_type[k].items()))))
+    lb = total if lower_bound is None else min(lower_bound, total)
+    gap = 0.0 if status == "optimal" else (total - lb) / max(abs(total), 1e-9)
+    return Plan(status=status, method=method, present_cost=float(total), lower_bound=float(lb),
+                gap=float(max(gap, 0.0)), years=tuple(years), units=tuple(units), end_year=y0 + H,
+                end_value=s.end_value, end_market_value=float(end_mv), by_class=by_class,
+                basis=budget.basis if budget is not None else "gross", uncapped_cost=uncapped_cost,
+                shortfall=tuple(shortfall), message=message, stats=dict(stats or {}))
+
+
+def _unit_order(case: Case) -> list[str]:
+    return [name for u in case.units for name in u.names()]

@@ -1,0 +1,66 @@
+"""Entry point of the solvers: the one function every command and scenario calls.
+
+``solve(case)`` uses the backward recursion (``tenure.chain``) when the case
+has no cap and no limit, and the fleet integer program (``tenure.fleet``)
+otherwise.  Either way the answer is a :class:`~tenure.plan.Plan`.
+"""
+
+from __future__ import annotations
+
+import time
+from collections import defaultdict
+
+from . import chain
+from .model import Case
+from .plan import PathGroup, Plan, assemble
+
+
+def build_graphs(case: Case) -> dict[str, chain.StageGraph]:
+    """The state graph of every class that holds units."""
+    return {c: chain.build_class_graph(case, c) for c in case.classes if case.units_of(c)}
+
+
+def starting_states(case: Case, graphs: dict[str, chain.StageGraph]) -> dict[str, dict[tuple[int, int], list[str]]]:
+    """Per class, the unit names at each starting state (t, a), in inventory order."""
+    out: dict[str, dict[tuple[int, int], list[str]]] = {}
+    for cls, g in graphs.items():
+        states: dict[tuple[int, int], list[str]] = defaultdict(list)
+        for u in case.units_of(cls):
+            states[(g.type_index(u.type), u.age)].extend(u.names())
+        out[cls] = dict(states)
+    return out
+
+
+def recursion_groups(case: Case, graphs, solutions) -> list[PathGroup]:
+    """Each distinct starting state solved once: its optimal path, units and flexibility costs."""
+    groups = []
+    for cls, states in starting_states(case, graphs).items():
+        sol = solutions[cls]
+        for (t, a), names in states.items():
+            steps = chain.follow(sol, t, a)
+            groups.append(PathGroup(class_=cls, steps=tuple(steps), units=tuple(names), start=(t, a),
+                                    flex=tuple(chain.flexibility(sol, steps))))
+    return groups
+
+
+def solve_uncapped(case: Case, graphs=None) -> Plan:
+    """Least-cost plan with no caps or limits: every unit follows its own optimal chain."""
+    t0 = time.perf_counter()
+    graphs = build_graphs(case) if graphs is None else graphs
+    sols = {c: chain.backward(g) for c, g in graphs.items()}
+    groups = recursion_groups(case, graphs, sols)
+    dt = time.perf_counter() - t0
+    return assemble(case, graphs, groups, status="optimal", method="recursion",
+                    stats={"solve_seconds": round(dt, 4), "states_solved": sum(len(gr.units) > 0 for gr in groups)})
+
+
+def solve(case: Case, **options) -> Plan:
+    """Solve a case: recursion when uncapped, the fleet integer program otherwise.
+
+    ``options`` (solver, time_limit, gap, progress) go to :func:`tenure.fleet.solve_capped`.
+    """
+    if not case.capped:
+        return solve_uncapped(case)
+    from .fleet import solve_capped
+
+    return solve_capped(case, **options)
