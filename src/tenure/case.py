@@ -16,6 +16,7 @@ import copy
 import csv
 import difflib
 import math
+import re
 import tomllib
 from dataclasses import dataclass
 from pathlib import Path
@@ -134,12 +135,12 @@ class _Checker:
 
     def number_value(self, v: Any, where: str, *, lo=None, hi=None, lo_open=False, hi_open=False, what="a number"):
         if isinstance(v, bool) or not isinstance(v, (int, float)) or not math.isfinite(v):
-            self.bad(where, f"= {v!r}: must be {what}{_range_text(lo, hi, lo_open, hi_open)}")
+            self.bad(where, f"= {v!r}: must be {_allowed(what, lo, hi, lo_open, hi_open)}")
             return None
         if (lo is not None and (v < lo or (lo_open and v == lo))) or (
             hi is not None and (v > hi or (hi_open and v == hi))
         ):
-            self.bad(where, f"= {v!r}: must be {what}{_range_text(lo, hi, lo_open, hi_open)}")
+            self.bad(where, f"= {v!r}: must be {_allowed(what, lo, hi, lo_open, hi_open)}")
             return None
         return float(v)
 
@@ -155,7 +156,7 @@ class _Checker:
     def integer_value(self, v: Any, where: str, *, lo=None, hi=None, what="a whole number") -> int | None:
         ok = (isinstance(v, int) and not isinstance(v, bool)) or (isinstance(v, float) and v.is_integer())
         if not ok or (lo is not None and v < lo) or (hi is not None and v > hi):
-            self.bad(where, f"= {v!r}: must be {what}{_range_text(lo, hi, False, False)}")
+            self.bad(where, f"= {v!r}: must be {_allowed(what, lo, hi, False, False)}")
             return None
         return int(v)
 
@@ -169,6 +170,15 @@ class _Checker:
             self.bad(f"{path}.{key}", f"= {v!r}: must be one of {', '.join(repr(a) for a in allowed)}{hint}")
             return default
         return v
+
+
+_BOUND_SUFFIX = re.compile(r"\s*[≥>≤<]\s*-?[0-9.]+$")
+
+
+def _allowed(what: str, lo, hi, lo_open, hi_open) -> str:
+    """``what`` with the allowed range; a bound already written in ``what`` ("money ≥ 0") is not repeated."""
+    rng = _range_text(lo, hi, lo_open, hi_open)
+    return _BOUND_SUFFIX.sub("", what) + rng if rng else what
 
 
 def _range_text(lo, hi, lo_open, hi_open) -> str:
@@ -390,14 +400,17 @@ def _units(chk: _Checker, doc: Mapping, types: Mapping[str, AssetType], type_ids
     for j, b in enumerate(_blocks(chk, doc, "unit"), start=1):
         chk.keys(b, UNIT_KEYS, f"unit[{j}]")
         entries.append((b, chk.file, f"unit[{j}]"))
+    n_before = len(chk.problems)
     if "fleet" in doc:
         fleet = chk.table(doc["fleet"], "fleet")
         if fleet is not None:
             for row in _csv_units(chk, fleet, base_dir):
                 f, where = row.pop("_where")
                 entries.append((row, f, where))
-    if not entries:
+    if not entries and "fleet" not in doc:
         chk.bad("unit", "missing: the fleet needs [[unit]] blocks or [fleet] file = \"….csv\"")
+    elif not entries and len(chk.problems) == n_before:  # the CSV was read but holds no unit rows
+        chk.bad("fleet.file", "the inventory CSV has no unit rows; give one row per unit (id,type,age[,count])")
     out: list[Unit] = []
     seen: dict[str, str] = {}
     for row, f, p in entries:

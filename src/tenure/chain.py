@@ -306,7 +306,9 @@ def flexibility(sol: ChainSolution, steps: list[Step]) -> list[tuple[float | Non
     and replaces in year k+1 with the best challenger then, the rest of the
     chain re-optimised; *advance* replaces in year k−1 from (t, a−1) instead
     of keeping.  None where the move is not possible (max age reached, the
-    year outside the horizon, or the unit bought the year before).
+    year outside the horizon, or the unit bought the year before).  Costs are
+    measured against "replace as planned, then the best chain", so they also
+    apply to a path that is not optimal without caps (a capped plan's path).
 
     Returns
     -------
@@ -319,7 +321,8 @@ def flexibility(sol: ChainSolution, steps: list[Step]) -> list[tuple[float | Non
         if st.action == KEEP:
             continue
         k, t, a = st.k, st.type, st.age
-        here = sol.value[k, t, a]
+        # base: replace now, then the best chain (equals the value on an optimal path)
+        here = sol.replace_value[k, t, a]
         defer = None
         if k + 1 < H and a < g.max_age[t] and np.isfinite(g.keep_pw[k, t, a]):
             later = g.keep_pw[k, t, a] + sol.replace_value[k + 1, t, a + 1]
@@ -328,8 +331,9 @@ def flexibility(sol: ChainSolution, steps: list[Step]) -> list[tuple[float | Non
         advance = None
         if k >= 1 and idx >= 1 and steps[idx - 1].action == KEEP and a >= 1:
             before = sol.replace_value[k - 1, t, a - 1]
+            kept = g.keep_pw[k - 1, t, a - 1] + here
             if np.isfinite(before):
-                advance = max(0.0, float(before - sol.value[k - 1, t, a - 1]))
+                advance = max(0.0, float(before - kept))
         out.append((defer, advance))
     return out
 
