@@ -258,6 +258,24 @@ def _highs(prog: CohortProgram, integer: bool):
     return h
 
 
+def watch_improvements(h, t0: float, history: list, floor_bound: float = -INF) -> None:
+    """Record (seconds, gap) at each improving MIP solution, the gap taken against the better of
+    the solver's dual bound and ``floor_bound`` (the LP bound)."""
+
+    def on_improve(e):
+        try:
+            obj = float(e.data_out.objective_function_value)
+            bnd = max(float(e.data_out.mip_dual_bound), floor_bound)
+            history.append([round(time.perf_counter() - t0, 3), max(0.0, (obj - bnd) / max(abs(obj), 1e-9))])
+        except Exception:  # a callback must never break the solve
+            pass
+
+    try:
+        h.cbMipImprovingSolution.subscribe(on_improve)
+    except AttributeError:  # older highspy without the callback API
+        pass
+
+
 def _status_name(h) -> str:
     return h.modelStatusToString(h.getModelStatus())
 
@@ -583,7 +601,8 @@ def _shortfall(case: Case, graphs, time_limit: float, solver: str):
     # one elastic column per capped year: cost 1 per unit of money, coefficient −1 in its cap row
     n0 = prog.n_cols
     m = len(cap_years)
-    cost = np.concatenate([np.zeros(n0), np.ones(m)])
+    # the flows' present cost, scaled far down, only breaks ties between plans needing the same extra capital
+    cost = np.concatenate([prog.cost * 1e-6, np.ones(m)])
     lower = np.zeros(n0 + m)
     upper = np.concatenate([prog.upper, np.full(m, INF)])
     starts = list(prog.a_start)
@@ -602,7 +621,9 @@ def _shortfall(case: Case, graphs, time_limit: float, solver: str):
     integ = np.concatenate([np.ones(n0, dtype=np.int32), np.zeros(m, dtype=np.int32)])
     h.changeColsIntegrality(n0 + m, np.arange(n0 + m, dtype=np.int32), integ)
     h.setOptionValue("time_limit", float(max(time_limit, 5.0)))
-    h.setOptionValue("mip_rel_gap", 0.0)
+    # any feasible point of the elastic program is a plan under the raised caps, so its extra capital
+    # always fixes the case; the gap only bounds how far above the least extra it may be
+    h.setOptionValue("mip_rel_gap", 1e-3)
     h.run()
     if h.getInfo().primal_solution_status != 2:  # no feasible point: a limit, not a cap, is binding
         return None, None, prog
@@ -687,6 +708,9 @@ def solve_capped(case: Case, solver: str = "highs", time_limit: float = 120.0, g
             log(f"fix-and-relax plan {best_cost:,.0f} (gap {(best_cost - lp_bound) / abs(best_cost):.3%})")
     bound = lp_bound
     cur_gap = (best_cost - bound) / abs(best_cost) if best_x is not None else INF
+    history = stats.setdefault("gap_history", [])
+    if best_x is not None:
+        history.append([round(time.perf_counter() - t0, 3), cur_gap])
     if cur_gap > gap and time.perf_counter() < deadline:
         left = deadline - time.perf_counter()
         log(f"MIP ({solver}) for up to {left:.0f} s")
@@ -694,6 +718,7 @@ def solve_capped(case: Case, solver: str = "highs", time_limit: float = 120.0, g
             hm = _highs(prog, integer=True)
             hm.setOptionValue("time_limit", float(max(left, 1.0)))
             hm.setOptionValue("mip_rel_gap", float(gap))
+            watch_improvements(hm, t0, history, lp_bound)
             if best_x is not None:
                 sol = hm.getSolution()
                 sol.col_value = list(best_x)
@@ -726,6 +751,7 @@ def solve_capped(case: Case, solver: str = "highs", time_limit: float = 120.0, g
         return _infeasible(case, graphs, sols, uncapped_cost, solver, deadline, t0, stats,
                            message=f"no plan found within {time_limit:g} s; the diagnosis below assumes none exists")
     cur_gap = max(0.0, (best_cost - bound) / abs(best_cost))
+    history.append([round(time.perf_counter() - t0, 3), cur_gap])
     status_word = "optimal" if cur_gap <= 1e-9 else "feasible"
     groups = flows_to_groups(prog, best_x, case, sols)
     stats["seconds"] = round(time.perf_counter() - t0, 3)

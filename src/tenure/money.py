@@ -533,7 +533,7 @@ def pa_geometric(i, g, n):
     Examples
     --------
     >>> round(pa_geometric(0.10, 0.05, 10), 4)
-    7.4004
+    7.4398
     >>> pa_geometric(0.08, 0.08, 5) == 5 / 1.08
     True
     """

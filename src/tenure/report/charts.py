@@ -1,0 +1,568 @@
+"""Charts of a plan or a comparison, drawn with matplotlib as inline SVG strings.
+
+Every function takes result objects (a :class:`~tenure.plan.Plan`, a
+:class:`~tenure.model.Case`, a comparison dict) and returns one ``<svg>``
+element as text, ready to be pasted into ``report.html``.  Nothing here solves
+or writes files.
+
+Figures are built with :class:`matplotlib.figure.Figure` and the SVG canvas
+directly (no pyplot, no global backend switch), text is kept as text
+(``svg.fonttype = "none"``) and every element id is prefixed with the chart's
+name so that several charts can share one HTML page.
+
+Palette
+-------
+Categories (types, scenarios, line roles) use the Okabe–Ito colour-blind-safe
+set (Okabe & Ito, "Color Universal Design", 2008) in the order of
+:data:`OKABE_ITO`; counts (the age heat map) use matplotlib's ``viridis``
+ramp, which stays readable in grey and for the common colour-vision
+deficiencies.  Where colours alone would carry meaning, line styles, markers
+or hatching carry it too.
+"""
+
+from __future__ import annotations
+
+import io
+import re
+from collections import Counter
+from dataclasses import dataclass
+from typing import Iterable, Sequence
+
+import matplotlib
+import numpy as np
+from matplotlib.backends.backend_svg import FigureCanvasSVG
+from matplotlib.figure import Figure
+from matplotlib.ticker import FuncFormatter, MaxNLocator
+
+from ..model import Case
+
+# Okabe–Ito: blue, orange, bluish green, reddish purple, sky blue, vermillion, yellow, black
+OKABE_ITO = ("#0072B2", "#E69F00", "#009E73", "#CC79A7", "#56B4E9", "#D55E00", "#F0E442", "#000000")
+BLUE, ORANGE, GREEN, PURPLE, SKY, VERMILLION, YELLOW, BLACK = OKABE_ITO
+GREY = "#8c8c8c"
+LIGHT = "#e6e6e6"
+HATCHES = ("", "//", "..", "xx", "\\\\", "++", "--", "oo")
+LINESTYLES = ("-", "--", "-.", ":")
+MARKERS = ("o", "s", "^", "D", "v", "P", "X", "*")
+HEATMAP = "viridis"
+
+_RC = {
+    "svg.fonttype": "none",          # text stays text in the SVG
+    "svg.hashsalt": "tenure-report",  # stable clip-path ids between runs
+    "font.family": "sans-serif",
+    "font.sans-serif": ["DejaVu Sans", "Liberation Sans", "Arial", "Helvetica"],
+    "font.size": 10,
+    "axes.titlesize": 11,
+    "axes.labelsize": 10,
+    "axes.spines.top": False,
+    "axes.spines.right": False,
+    "axes.grid": True,
+    "grid.color": "#dddddd",
+    "grid.linewidth": 0.6,
+    "axes.axisbelow": True,
+    "legend.frameon": False,
+    "legend.fontsize": 9,
+}
+
+#: ids of the charts of a plan report, in page order
+PLAN_CHARTS = ("chart-capital", "chart-ages", "chart-types", "chart-eac", "chart-class-cost", "chart-cap-cost")
+#: ids of the charts of a comparison report
+COMPARE_CHARTS = ("chart-compare-cost", "chart-compare-capital")
+
+
+# ---------------------------------------------------------------------------
+# money scale and labels
+# ---------------------------------------------------------------------------
+@dataclass(frozen=True)
+class MoneyScale:
+    """How money is shown on an axis: divide by ``divisor``, call it ``word``."""
+
+    divisor: float
+    word: str
+
+    def label(self, what: str, currency: str) -> str:
+        unit = f"{self.word}, " if self.word else ""
+        return f"{what}\n({unit}money in constant {currency} currency)"
+
+    def formatter(self) -> FuncFormatter:
+        d = self.divisor
+
+        def fmt(x, _pos):
+            if d == 1:
+                return f"{x:,.0f}"
+            out = f"{x / d:,.2f}".rstrip("0").rstrip(".")
+            return "0" if out in ("-0", "") else out
+
+        return FuncFormatter(fmt)
+
+
+def money_scale(values: Iterable[float | None]) -> MoneyScale:
+    """Millions, thousands or plain units, from the largest magnitude shown."""
+    vals = [abs(float(v)) for v in values if v is not None and np.isfinite(float(v))]
+    top = max(vals, default=0.0)
+    if top >= 2e6:
+        return MoneyScale(1e6, "millions")
+    if top >= 2e4:
+        return MoneyScale(1e3, "thousands")
+    return MoneyScale(1.0, "")
+
+
+def short_money(x: float, scale: MoneyScale) -> str:
+    """A bar label in the axis' scale: '1.85 M', '372 k', '950'."""
+    suffix = {"millions": " M", "thousands": " k"}.get(scale.word, "")
+    if not suffix:
+        return f"{x:,.0f}"
+    v = x / scale.divisor
+    if abs(v) < 10:
+        return f"{v:,.2f}{suffix}"
+    if abs(v) < 100:
+        return f"{v:,.1f}{suffix}"
+    return f"{v:,.0f}{suffix}"
+
+
+# ---------------------------------------------------------------------------
+# SVG plumbing
+# ---------------------------------------------------------------------------
+def _figure(width_in: float, height_in: float) -> Figure:
+    fig = Figure(figsize=(width_in, height_in), layout="constrained")
+    FigureCanvasSVG(fig)
+    return fig
+
+
+def to_svg(fig: Figure, chart_id: str, label: str) -> str:
+    """The figure as one ``<svg>`` element: ids prefixed, sized to its container, labelled."""
+    buf = io.StringIO()
+    fig.savefig(buf, format="svg", metadata={"Date": None, "Creator": None})
+    svg = buf.getvalue()
+    svg = svg[svg.index("<svg"):]
+    svg = re.sub(r'id="([^"]+)"', lambda m: f'id="{chart_id}-{m.group(1)}"', svg)
+    svg = re.sub(r"url\(#([^)]+)\)", lambda m: f"url(#{chart_id}-{m.group(1)})", svg)
+    svg = re.sub(r'href="#([^"]+)"', lambda m: f'href="#{chart_id}-{m.group(1)}"', svg)
+    head_end = svg.index(">")
+    head = svg[:head_end]
+    m = re.search(r'width="([\d.]+)pt"', head)
+    width_pt = float(m.group(1)) if m else 720.0
+    head = re.sub(r'\s(width|height)="[^"]*"', "", head)
+    label = (label.replace("&", "&amp;").replace('"', "&quot;").replace("<", "&lt;"))
+    head += (f' class="chart-svg" role="img" aria-label="{label}" '
+             f'style="width:100%;max-width:{width_pt * 4 / 3:.0f}px;height:auto"')
+    return head + svg[head_end:]
+
+
+def _render(draw, chart_id: str, label: str, width_in: float, height_in: float) -> str:
+    with matplotlib.rc_context(_RC):
+        fig = _figure(width_in, height_in)
+        draw(fig)
+        return to_svg(fig, chart_id, label)
+
+
+def message_svg(chart_id: str, title: str, message: str, width_in: float = 10.0, height_in: float = 1.6) -> str:
+    """A small placeholder chart that says why there is nothing to draw."""
+
+    def draw(fig: Figure):
+        ax = fig.add_subplot()
+        ax.set_axis_off()
+        ax.set_title(title, loc="left")
+        ax.text(0.0, 0.45, message, transform=ax.transAxes, ha="left", va="center", color="#444444", wrap=True)
+
+    return _render(draw, chart_id, f"{title}: {message}", width_in, height_in)
+
+
+# ---------------------------------------------------------------------------
+# what each unit is in each year
+# ---------------------------------------------------------------------------
+def unit_years(plan, case: Case) -> list[list[tuple[str, int]]]:
+    """Per unit of ``plan.units``, per planning year: (type held, age during the year).
+
+    The age is the completed years of service at the start of the year after
+    that year's replacement, so a unit bought in the year has age 0; a unit
+    kept from the year before is one year older (docs/conventions.md).
+    """
+    s = case.study
+    out = []
+    for u in plan.units:
+        by_year = {e.year: e for e in u.events}
+        t, a = u.start_type, u.start_age
+        row = []
+        for k in range(s.horizon):
+            y = s.start_year + k
+            if k > 0:
+                a += 1
+            e = by_year.get(y)
+            if e is not None:
+                t, a = e.type, 0
+            row.append((t, a))
+        out.append(row)
+    return out
+
+
+def type_colours(case: Case) -> dict[str, tuple[str, str]]:
+    """Type id → (colour, hatch), in case order."""
+    n = len(OKABE_ITO)
+    return {t.id: (OKABE_ITO[j % n], HATCHES[(j // n) % len(HATCHES)]) for j, t in enumerate(case.types)}
+
+
+def _years_axis(ax, years: Sequence[int]):
+    ax.xaxis.set_major_locator(MaxNLocator(integer=True, nbins=min(16, max(2, len(years)))))
+    ax.set_xlabel("calendar year")
+
+
+# ---------------------------------------------------------------------------
+# plan charts
+# ---------------------------------------------------------------------------
+def capital_chart(plan, case: Case) -> str:
+    """Capital per year as bars, the cap as a step line; over-cap years and shortfalls marked."""
+    cid = "chart-capital"
+    cur = case.study.start_year
+    years = [y.year for y in plan.years]
+    if not years:
+        return message_svg(cid, "Capital per year", "The plan has no yearly figures to draw.")
+    net = plan.basis == "net"
+    capital = np.array([y.capital for y in plan.years])
+    salvage = np.array([y.salvage for y in plan.years])
+    spend = capital - salvage if net else capital
+    caps = np.array([np.nan if y.cap is None else y.cap for y in plan.years], dtype=float)
+    short = {int(y): float(x) for y, x in (plan.shortfall or ())}
+    over = np.where(np.isfinite(caps), spend > caps + np.maximum(0.5, 1e-9 * np.abs(caps)), False)
+    tops = list(spend) + list(capital) + [c for c in caps if np.isfinite(c)]
+    tops += [caps[years.index(y)] + x if y in years and np.isfinite(caps[years.index(y)]) else x
+             for y, x in short.items()]
+    sc = money_scale(tops)
+
+    def draw(fig: Figure):
+        ax = fig.add_subplot()
+        x = np.array(years)
+        if net:
+            ax.bar(x, capital, width=0.8, color="white", edgecolor=GREY, linewidth=0.8,
+                   label="purchase prices (gross)")
+        ax.bar(x[~over], spend[~over], width=0.8, color=BLUE,
+               label="net spend (purchases less market value received)" if net else "capital spent (purchase prices)")
+        if over.any():
+            ax.bar(x[over], spend[over], width=0.8, color=VERMILLION, hatch="//", edgecolor="white",
+                   label="over the cap")
+        if np.isfinite(caps).any():
+            xs = np.concatenate([x - 0.5, [x[-1] + 0.5]])
+            ys = np.concatenate([caps, [caps[-1]]])
+            ax.step(xs, ys, where="post", color=BLACK, linewidth=1.6, linestyle="--",
+                    label=f"cap ({plan.basis} basis)")
+        if short:
+            sx = np.array(sorted(short))
+            base = np.array([caps[years.index(y)] if y in years and np.isfinite(caps[years.index(y)]) else 0.0
+                             for y in sx])
+            need = np.array([short[y] for y in sx])
+            ax.bar(sx, need, bottom=base, width=0.8, color="white", edgecolor=VERMILLION, hatch="xx",
+                   linewidth=1.2, label="shortfall: extra capital needed")
+            for xx, b, n in zip(sx, base, need):
+                ax.annotate(f"+{short_money(n, sc)}", (xx, b + n), xytext=(0, 3), textcoords="offset points",
+                            ha="center", va="bottom", fontsize=8, color=VERMILLION)
+        for xx, v in zip(x[over], spend[over]):
+            ax.annotate("over", (xx, v), xytext=(0, 3), textcoords="offset points", ha="center", va="bottom",
+                        fontsize=8, color=VERMILLION)
+        ax.yaxis.set_major_formatter(sc.formatter())
+        ax.set_ylabel(sc.label("Capital per year", str(cur)))
+        _years_axis(ax, years)
+        ax.set_xlim(x[0] - 0.8, x[-1] + 0.8)
+        ax.set_ylim(bottom=min(0.0, float(np.min(spend)) * 1.1))
+        ax.set_title("Capital per year" + (" against the cap" if np.isfinite(caps).any() else " (no cap)"),
+                     loc="left")
+        ax.legend(loc="upper left", bbox_to_anchor=(0.0, -0.16), ncol=3)
+
+    return _render(draw, cid, "Bar chart of capital per year" + (" with the cap" if np.isfinite(caps).any() else ""),
+                   10.0, 4.6)
+
+
+def age_heatmap(plan, case: Case) -> str:
+    """Units by age (rows) and year (columns), one panel per class, with each type's max age."""
+    cid = "chart-ages"
+    s = case.study
+    if not plan.units:
+        return message_svg(cid, "Fleet age by year", "The plan has no unit schedule to draw.")
+    uy = unit_years(plan, case)
+    classes = [c for c in case.classes if any(u.class_ == c for u in plan.units)]
+    grids, max_ages = {}, {}
+    for c in classes:
+        types = case.types_of(c)
+        held = {t for u, row in zip(plan.units, uy) if u.class_ == c for t, _ in row} | \
+            {u.start_type for u in plan.units if u.class_ == c}
+        max_ages[c] = sorted({(case.type(t).max_age, t) for t in held}, reverse=True)
+        top = max([t.max_age for t in types] + [a for u, row in zip(plan.units, uy) if u.class_ == c
+                                               for _, a in row])
+        g = np.zeros((top + 1, s.horizon), dtype=int)
+        for u, row in zip(plan.units, uy):
+            if u.class_ == c:
+                for k, (_, a) in enumerate(row):
+                    g[a, k] += 1
+        grids[c] = g
+    vmax = max(int(g.max()) for g in grids.values()) or 1
+    heights = [max(1.6, 0.16 * g.shape[0] + 0.7) for g in grids.values()]
+    years = list(s.years)
+
+    def draw(fig: Figure):
+        axes = fig.subplots(len(classes), 1, sharex=True, squeeze=False, height_ratios=heights)[:, 0]
+        cmap = matplotlib.colormaps[HEATMAP].copy()
+        cmap.set_bad("white")
+        im = None
+        for ax, c in zip(axes, classes):
+            g = grids[c]
+            data = np.ma.masked_equal(g, 0)
+            im = ax.imshow(data, cmap=cmap, vmin=0.5, vmax=vmax + 0.5, origin="lower", aspect="auto",
+                           extent=(years[0] - 0.5, years[-1] + 0.5, -0.5, g.shape[0] - 0.5),
+                           interpolation="nearest")
+            ax.grid(False)
+            for j, (ma, t) in enumerate(max_ages[c]):
+                ax.axhline(ma - 0.5, color=VERMILLION, linewidth=1.4, linestyle=LINESTYLES[j % len(LINESTYLES)])
+                ax.annotate(f"max age {ma} ({t})", (1.0, ma - 0.5), xycoords=("axes fraction", "data"),
+                            xytext=(4, 0), textcoords="offset points", va="center", ha="left", fontsize=8,
+                            color=VERMILLION)
+            ax.set_ylabel(f"{c}\nage (years)")
+            ax.yaxis.set_major_locator(MaxNLocator(integer=True, nbins=6))
+            ax.set_ylim(-0.5, g.shape[0] - 0.5)
+        axes[0].set_title("Fleet age by year: number of units of each age (0 = bought that year)", loc="left")
+        _years_axis(axes[-1], years)
+        if im is not None:
+            cb = fig.colorbar(im, ax=list(axes), location="right", shrink=0.9, pad=0.16, aspect=30)
+            cb.set_label("units")
+            cb.locator = MaxNLocator(integer=True)
+            cb.update_ticks()
+
+    return _render(draw, cid, "Heat map of units by age and year for each class", 10.0,
+                   sum(heights) + 0.9)
+
+
+def types_chart(plan, case: Case) -> str:
+    """Units of each type in service per year, as stacked areas."""
+    cid = "chart-types"
+    s = case.study
+    if not plan.units:
+        return message_svg(cid, "Units in service by type", "The plan has no unit schedule to draw.")
+    uy = unit_years(plan, case)
+    counts = [Counter(row[k][0] for row in uy) for k in range(s.horizon)]
+    ids = [t.id for t in case.types if any(c[t.id] for c in counts)]
+    colours = type_colours(case)
+    years = np.array(list(s.years))
+
+    def draw(fig: Figure):
+        ax = fig.add_subplot()
+        xs = np.concatenate([years - 0.5, [years[-1] + 0.5]])
+        bottom = np.zeros(len(years))
+        for tid in ids:
+            n = np.array([c[tid] for c in counts], dtype=float)
+            col, hatch = colours[tid]
+            top = bottom + n
+            ax.fill_between(xs, np.append(bottom, bottom[-1]), np.append(top, top[-1]), step="post",
+                            facecolor=col, hatch=hatch, edgecolor="white", linewidth=0.6,
+                            label=f"{tid} ({case.type(tid).class_})")
+            bottom = top
+        ax.set_ylabel("units in service (count)")
+        ax.yaxis.set_major_locator(MaxNLocator(integer=True))
+        _years_axis(ax, list(years))
+        ax.set_xlim(xs[0], xs[-1])
+        ax.set_ylim(0, max(1.0, float(bottom.max())) * 1.05)
+        ax.set_title("Units in service by type, each year", loc="left")
+        ax.legend(loc="upper left", bbox_to_anchor=(1.01, 1.0), ncol=1, title="type (class)")
+
+    return _render(draw, cid, "Stacked area chart of units in service by type and year", 10.0, 4.0)
+
+
+def buyable_types(case: Case) -> list[tuple[object, int]]:
+    """(type, first planning year it can be bought) for each type buyable in the study."""
+    out = []
+    for t in case.types:
+        for y in case.study.years:
+            if t.buyable(y):
+                out.append((t, y))
+                break
+    return out
+
+
+def eac_chart(case: Case, life_tables: Sequence) -> str:
+    """EAC of capital, O&M and in total by holding period, one panel per buyable type."""
+    cid = "chart-eac"
+    cur = case.study.start_year
+    if not life_tables:
+        return message_svg(cid, "Equivalent annual cost", "No type can be bought during the study.")
+    n = len(life_tables)
+    cols = 2 if n > 1 else 1
+    rows = (n + cols - 1) // cols
+    allv = [v for lt in life_tables for v in np.concatenate([lt.eac_total, lt.eac_capital, lt.eac_om])]
+    sc = money_scale(allv)
+
+    def draw(fig: Figure):
+        axes = fig.subplots(rows, cols, squeeze=False)
+        for j, lt in enumerate(life_tables):
+            ax = axes[j // cols][j % cols]
+            lo, hi = lt.band
+            ax.axvspan(lo - 0.5, hi + 0.5, color=YELLOW, alpha=0.35, linewidth=0,
+                       label=f"within {lt.tolerance:.0%} of the least EAC")
+            ax.plot(lt.years, lt.eac_capital, color=BLUE, linestyle="--", marker="s", markersize=3,
+                    label="capital (price less resale)")
+            ax.plot(lt.years, lt.eac_om, color=ORANGE, linestyle=":", marker="^", markersize=3,
+                    label="O&M")
+            ax.plot(lt.years, lt.eac_total, color=BLACK, linewidth=2.0, marker="o", markersize=3.5, label="total")
+            ax.axvline(lt.economic_life, color=VERMILLION, linewidth=1.2)
+            ax.annotate(f"economic life {lt.economic_life} y\nleast EAC {short_money(lt.min_eac, sc)}/y",
+                        (lt.economic_life, lt.min_eac), xytext=(6, 14), textcoords="offset points", fontsize=8,
+                        color=VERMILLION)
+            t = case.type(lt.type)
+            ax.set_title(f"{lt.type} ({t.class_}), bought {lt.year}", loc="left", fontsize=10)
+            ax.set_xlabel("years kept before resale, N (years)")
+            ax.set_ylabel(sc.label("EAC per year", str(cur)), fontsize=8.5)
+            ax.yaxis.set_major_formatter(sc.formatter())
+            ax.xaxis.set_major_locator(MaxNLocator(integer=True))
+            ax.set_xlim(0.5, lt.years[-1] + 0.5)
+            ax.set_ylim(bottom=0.0)
+        for j in range(n, rows * cols):
+            axes[j // cols][j % cols].set_axis_off()
+        h, lab = axes[0][0].get_legend_handles_labels()
+        fig.legend(h, lab, loc="outside lower center", ncol=4)
+
+    return _render(draw, cid, "Line charts of equivalent annual cost by holding period for each buyable type",
+                   10.0, 3.0 * rows + 0.7)
+
+
+def class_cost_chart(plan, case: Case) -> str:
+    """Present cost by class as horizontal bars."""
+    cid = "chart-class-cost"
+    cur = case.study.start_year
+    items = [(c, float(v)) for c, v in (plan.by_class or {}).items() if v is not None]
+    if not items:
+        return message_svg(cid, "Present cost by class", "No present cost by class is available.")
+    sc = money_scale([v for _, v in items])
+
+    def draw(fig: Figure):
+        ax = fig.add_subplot()
+        names = [c for c, _ in items][::-1]
+        vals = [v for _, v in items][::-1]
+        bars = ax.barh(names, vals, color=BLUE, height=0.6)
+        for b, v in zip(bars, vals):
+            ax.annotate(short_money(v, sc), (v, b.get_y() + b.get_height() / 2), xytext=(4, 0),
+                        textcoords="offset points", va="center", ha="left" if v >= 0 else "right", fontsize=9)
+        ax.xaxis.set_major_formatter(sc.formatter())
+        ax.set_xlabel(sc.label(f"Present cost at the start of {cur}", str(cur)).replace("\n", " "))
+        ax.grid(axis="y", visible=False)
+        ax.set_xlim(left=min(0.0, min(vals) * 1.15), right=max(0.0, max(vals)) * 1.15 or 1.0)
+        ax.set_title("Present cost by class", loc="left")
+
+    return _render(draw, cid, "Bar chart of present cost by class", 10.0, 1.2 + 0.45 * len(items))
+
+
+def cap_cost_chart(plan, case: Case) -> str | None:
+    """The cost of each cap year (its shadow price) as bars; None when the plan has no cap."""
+    cid = "chart-cap-cost"
+    capped = [y for y in plan.years if y.cap is not None]
+    if not capped:
+        return None
+    priced = [(y.year, float(y.shadow_price)) for y in capped if y.shadow_price is not None]
+    if not priced:
+        return message_svg(cid, "Cost of each year's cap",
+                           "The solver reported no shadow prices for this plan, so the cost of each cap year "
+                           "is not shown.")
+    years = [y.year for y in plan.years]
+
+    def draw(fig: Figure):
+        ax = fig.add_subplot()
+        x = np.array([p[0] for p in priced])
+        v = np.array([p[1] for p in priced])
+        pos = v > 1e-9
+        ax.bar(x[pos], v[pos], width=0.8, color=PURPLE, label="binding cap: money would lower the present cost")
+        if (~pos).any():
+            ax.bar(x[~pos], v[~pos], width=0.8, color=LIGHT, edgecolor=GREY, label="cap not binding")
+        for xx, vv in zip(x[pos], v[pos]):
+            ax.annotate(f"{vv:.2f}", (xx, vv), xytext=(0, 2), textcoords="offset points", ha="center",
+                        va="bottom", fontsize=7.5)
+        ax.set_ylabel("present-cost saving per 1 of\nextra cap (money per money)")
+        _years_axis(ax, years)
+        ax.set_xlim(years[0] - 0.8, years[-1] + 0.8)
+        ax.set_ylim(bottom=0.0, top=max(0.05, float(v.max()) * 1.2))
+        ax.set_title("Cost of each year's cap (shadow price)", loc="left")
+        ax.legend(loc="upper left", bbox_to_anchor=(0.0, -0.18), ncol=2)
+
+    return _render(draw, cid, "Bar chart of the shadow price of each year's cap", 10.0, 3.6)
+
+
+# ---------------------------------------------------------------------------
+# comparison charts
+# ---------------------------------------------------------------------------
+def _num(x) -> float | None:
+    try:
+        v = float(x)
+    except (TypeError, ValueError):
+        return None
+    return v if np.isfinite(v) else None
+
+
+def compare_cost_chart(scenarios: Sequence[dict], currency: str) -> str:
+    """Present cost of each scenario as horizontal bars, with its difference from the first."""
+    cid = "chart-compare-cost"
+    rows = [(str(s.get("id", f"#{j + 1}")), _num(s.get("present_cost")), _num(s.get("difference")))
+            for j, s in enumerate(scenarios)]
+    rows = [r for r in rows if r[1] is not None]
+    if not rows:
+        return message_svg(cid, "Present cost by scenario", "No scenario reported a present cost.")
+    sc = money_scale([r[1] for r in rows])
+
+    def draw(fig: Figure):
+        ax = fig.add_subplot()
+        names = [r[0] for r in rows][::-1]
+        vals = [r[1] for r in rows][::-1]
+        diffs = [r[2] for r in rows][::-1]
+        bars = ax.barh(names, vals, color=[OKABE_ITO[(len(rows) - 1 - j) % len(OKABE_ITO)] for j in range(len(rows))],
+                       height=0.6)
+        for b, v, d in zip(bars, vals, diffs):
+            txt = short_money(v, sc)
+            if d is not None:
+                txt += f"  ({'+' if d >= 0 else '−'}{short_money(abs(d), sc)})"
+            ax.annotate(txt, (v, b.get_y() + b.get_height() / 2), xytext=(4, 0), textcoords="offset points",
+                        va="center", ha="left", fontsize=9)
+        ax.xaxis.set_major_formatter(sc.formatter())
+        ax.set_xlabel(sc.label("Present cost", currency).replace("\n", " "))
+        ax.grid(axis="y", visible=False)
+        ax.set_xlim(left=min(0.0, min(vals)), right=max(vals) * 1.3 or 1.0)
+        ax.set_title("Present cost by scenario (difference in brackets)", loc="left")
+
+    return _render(draw, cid, "Bar chart of present cost by scenario", 10.0, 1.3 + 0.45 * len(rows))
+
+
+def compare_capital_chart(scenarios: Sequence[dict], currency: str, cap_by_year: dict | None = None) -> str:
+    """Capital per year of each scenario as overlaid lines (colour, line style and marker differ)."""
+    cid = "chart-compare-capital"
+    series = []
+    for j, s in enumerate(scenarios):
+        cby = s.get("capital_by_year") or {}
+        pts = []
+        if isinstance(cby, dict):
+            for y, v in cby.items():
+                try:
+                    yy = int(y)
+                except (TypeError, ValueError):
+                    continue
+                vv = _num(v)
+                if vv is not None:
+                    pts.append((yy, vv))
+        if pts:
+            series.append((str(s.get("id", f"#{j + 1}")), sorted(pts)))
+    if not series:
+        return message_svg(cid, "Capital per year by scenario", "No scenario reported capital by year.")
+    caps = sorted((int(y), float(v)) for y, v in (cap_by_year or {}).items() if _num(v) is not None)
+    sc = money_scale([v for _, pts in series for _, v in pts] + [v for _, v in caps])
+
+    def draw(fig: Figure):
+        ax = fig.add_subplot()
+        for j, (sid, pts) in enumerate(series):
+            ax.plot([p[0] for p in pts], [p[1] for p in pts], color=OKABE_ITO[j % len(OKABE_ITO)],
+                    linestyle=LINESTYLES[j % len(LINESTYLES)], marker=MARKERS[j % len(MARKERS)], markersize=4,
+                    linewidth=1.6, label=sid)
+        if caps:
+            xs = np.array([c[0] for c in caps], dtype=float)
+            ys = np.array([c[1] for c in caps])
+            ax.step(np.append(xs - 0.5, xs[-1] + 0.5), np.append(ys, ys[-1]), where="post", color=GREY,
+                    linewidth=2.4, alpha=0.7, label="cap (base case)")
+        ax.yaxis.set_major_formatter(sc.formatter())
+        ax.set_ylabel(sc.label("Capital per year", currency))
+        ax.set_xlabel("calendar year")
+        ax.xaxis.set_major_locator(MaxNLocator(integer=True, nbins=16))
+        ax.set_ylim(bottom=0.0)
+        ax.set_title("Capital per year, scenarios overlaid", loc="left")
+        ax.legend(loc="upper left", bbox_to_anchor=(1.01, 1.0), title="scenario")
+
+    return _render(draw, cid, "Line chart of capital per year for each scenario", 10.0, 4.2)

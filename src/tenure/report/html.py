@@ -1,0 +1,564 @@
+"""``report.html``: one self-contained page per plan or per comparison.
+
+The page has no scripts, no external style sheet, font or image: the style is
+inline, the charts are inline SVG from :mod:`tenure.report.charts`, so the
+file can be mailed, archived or opened offline.  Functions here only build
+text; :mod:`tenure.report.documents` writes it.
+
+Look: one plain column, system fonts, grey rules; accents come from the
+Okabe–Ito colour-blind-safe set (blue ``#0072B2`` for headings and figures,
+vermillion ``#D55E00`` for warnings), the same palette as the charts.
+"""
+
+from __future__ import annotations
+
+import datetime as _dt
+from collections import Counter
+from html import escape
+from typing import Any, Iterable, Sequence
+
+from .. import __version__
+from ..model import AssetType, Case
+from . import charts
+from .text import CAUTION
+
+CSS = """
+:root { --ink:#1f1f1f; --muted:#5a5a5a; --rule:#d9d9d9; --soft:#f5f6f7; --accent:#0072B2; --warn:#D55E00; }
+* { box-sizing: border-box; }
+html { background:#ffffff; }
+body { margin:0 auto; max-width:1180px; padding:28px 32px 40px; color:var(--ink);
+       font: 15px/1.5 system-ui, -apple-system, "Segoe UI", "DejaVu Sans", "Liberation Sans", Arial, sans-serif; }
+header { border-bottom:3px solid var(--accent); padding-bottom:10px; margin-bottom:18px; }
+h1 { font-size:26px; margin:0 0 4px; font-weight:650; }
+h2 { font-size:19px; margin:30px 0 8px; padding-bottom:4px; border-bottom:1px solid var(--rule); }
+h3 { font-size:16px; margin:20px 0 4px; }
+p { margin:6px 0; }
+.sub { color:var(--muted); margin:0; }
+.money-note { color:var(--muted); font-size:14px; }
+.figures { display:grid; grid-template-columns:repeat(auto-fill, minmax(210px, 1fr)); gap:12px; margin:12px 0; }
+.figure { background:var(--soft); border-left:4px solid var(--accent); padding:10px 12px; }
+.figure .k { color:var(--muted); font-size:13px; }
+.figure .v { font-size:21px; font-weight:650; font-variant-numeric:tabular-nums; }
+.figure .n { color:var(--muted); font-size:12.5px; }
+.figure.warn { border-left-color:var(--warn); }
+.notice { border:2px solid var(--warn); background:#fff6f0; padding:10px 14px; margin:14px 0; }
+.notice strong { color:var(--warn); }
+table { border-collapse:collapse; margin:8px 0 14px; font-size:14px; font-variant-numeric:tabular-nums; }
+th, td { padding:4px 10px; border-bottom:1px solid var(--rule); text-align:left; vertical-align:top; }
+th { background:var(--soft); font-weight:600; }
+td.num, th.num { text-align:right; }
+tr.best td { background:#e8f3fa; font-weight:600; }
+figure.chart { margin:18px 0 26px; }
+figure.chart figcaption { color:var(--muted); font-size:14px; max-width:900px; margin-top:2px; }
+.read { font-size:14px; color:var(--ink); margin:2px 0 6px; max-width:900px; }
+details { margin:10px 0; }
+summary { cursor:pointer; color:var(--accent); font-weight:600; }
+footer { margin-top:36px; border-top:3px solid var(--accent); padding-top:12px; font-size:14px; }
+footer h2 { border:0; margin-top:4px; }
+footer ul { margin:6px 0 10px 18px; padding:0; }
+.small { font-size:12.5px; color:var(--muted); }
+@media print { body { max-width:none; padding:0 8mm; } details { display:block; } }
+"""
+
+STATUS_WORDS = {
+    "optimal": "optimal — the least present cost is proven",
+    "feasible": "feasible — within a proven gap of the least present cost",
+    "infeasible": "no plan fits the caps",
+}
+
+
+# ---------------------------------------------------------------------------
+# small formatters
+# ---------------------------------------------------------------------------
+def money(x) -> str:
+    """Whole currency units with comma grouping; '—' for None or not a number."""
+    try:
+        v = float(x)
+    except (TypeError, ValueError):
+        return "—"
+    if v != v:
+        return "—"
+    return f"{v:,.0f}".replace("-", "−")
+
+
+def pct(x, digits: int = 2) -> str:
+    try:
+        return f"{float(x):.{digits}%}"
+    except (TypeError, ValueError):
+        return "—"
+
+
+def e(x: Any) -> str:
+    return escape("" if x is None else str(x))
+
+
+def table(head: Sequence[str], rows: Iterable[Sequence[Any]], num: Iterable[int] = (), cls_rows=None,
+          raw: bool = False) -> str:
+    """An HTML table; columns in ``num`` are right-aligned; cells escaped unless ``raw``."""
+    num = set(num)
+    right = ' class="num"'
+    out = ["<table><thead><tr>"]
+    out += [f"<th{right if j in num else ''}>{e(h)}</th>" for j, h in enumerate(head)]
+    out.append("</tr></thead><tbody>")
+    for i, row in enumerate(rows):
+        cls = cls_rows(i, row) if cls_rows else ""
+        out.append(f'<tr class="{cls}">' if cls else "<tr>")
+        for j, c in enumerate(row):
+            cell = str(c) if raw else e(c)
+            out.append(f"<td{right if j in num else ''}>{cell}</td>")
+        out.append("</tr>")
+    out.append("</tbody></table>")
+    return "".join(out)
+
+
+def fig_box(label: str, value: str, note: str = "", warn: bool = False) -> str:
+    return (f'<div class="figure{" warn" if warn else ""}"><div class="k">{e(label)}</div>'
+            f'<div class="v">{e(value)}</div>' + (f'<div class="n">{e(note)}</div>' if note else "") + "</div>")
+
+
+def chart_figure(chart_id: str, title: str, how_to_read: str, svg: str, caption: str = "") -> str:
+    return (f'<figure class="chart" id="{chart_id}"><h3>{e(title)}</h3><p class="read">{e(how_to_read)}</p>'
+            f"{svg}" + (f"<figcaption>{e(caption)}</figcaption>" if caption else "") + "</figure>")
+
+
+def page(title: str, body: str) -> str:
+    return ("<!DOCTYPE html>\n<html lang=\"en\"><head><meta charset=\"utf-8\">"
+            "<meta name=\"viewport\" content=\"width=device-width, initial-scale=1\">"
+            f"<meta name=\"generator\" content=\"tenure {e(__version__)}\">"
+            f"<title>{e(title)}</title><style>{CSS}</style></head><body>\n{body}\n</body></html>\n")
+
+
+# ---------------------------------------------------------------------------
+# assumptions
+# ---------------------------------------------------------------------------
+def window_text(t: AssetType, start_year: int) -> str:
+    if t.buy_until is not None and t.buy_until < start_year:
+        return f"no longer sold (last {t.buy_until})"
+    if t.buy_from is None and t.buy_until is None:
+        return "every year"
+    if t.buy_from is None:
+        return f"until {t.buy_until}"
+    if t.buy_until is None:
+        return f"from {t.buy_from}"
+    return f"{t.buy_from}–{t.buy_until}"
+
+
+def om_text(t: AssetType) -> str:
+    c = t.om
+    if c.kind == "gradient":
+        s = f"{money(c.first)} in year 1, {'+' if c.gradient >= 0 else '−'}{money(abs(c.gradient))} per year of age"
+    elif c.kind == "growth":
+        s = f"{money(c.first)} in year 1, {c.growth:+.1%} per year of age"
+    else:
+        tab = list(c.table)
+        s = f"listed by age: {money(tab[0])} … {money(tab[-1])} ({len(tab)} figures)" if tab else "listed"
+    if t.om_change:
+        s += f"; each later vintage {t.om_change:+.1%}"
+    return s
+
+
+def value_text(t: AssetType) -> str:
+    c = t.salvage
+    if c.kind == "retain":
+        return f"keeps {c.retain:.0%} of the current new price per year of age"
+    if c.kind == "line":
+        return f"straight line to {c.floor:.0%} of the current new price at {c.life:g} years"
+    tab = list(c.table)
+    return (f"listed by age for a start-year sale: {money(tab[0])} … {money(tab[-1])}, then follows the new price"
+            if tab else "listed")
+
+
+def assumptions_html(case: Case) -> str:
+    s = case.study
+    last = s.start_year + s.horizon - 1
+    end = {"salvage": f"units still held at the start of {last + 1} are sold at market value",
+           "continuing": f"units still held at the start of {last + 1} are costed as continuing replacement chains "
+                         f"(prices frozen at {last + 1} levels)"}.get(s.end_value, s.end_value)
+    rows = [("Study", s.title or "(untitled)"), ("Case file", case.source),
+            ("Planning years", f"{s.start_year}–{last} ({s.horizon} years)"),
+            ("Discount rate", f"{s.discount_rate:.2%} per year, real"),
+            ("Money", f"constant {s.start_year} currency; present cost is at the start of {s.start_year}"),
+            ("End of the horizon", f"{s.end_value}: {end}")]
+    out = ["<h3>Study frame</h3>", table(("item", "value"), rows)]
+    trow = []
+    for t in case.types:
+        n = sum(u.count for u in case.units if u.type == t.id)
+        trow.append((t.id, t.class_, money(t.price), f"{t.price_change:+.1%}" if t.price_change else "—",
+                     window_text(t, s.start_year), t.max_age, om_text(t), value_text(t), n))
+    out.append("<h3>Asset types</h3>")
+    out.append(f'<p class="money-note">Prices are for a unit bought in {s.start_year}; '
+               "“price change” is the change per later purchase year. Max age: a unit is replaced "
+               "when it reaches it.</p>")
+    out.append(table(("type", "class", f"price ({s.start_year})", "price change / year", "can be bought",
+                      "max age (years)", "O&M per year", "market value", "units held"), trow, num=(2, 3, 5, 8)))
+    inv = []
+    for t in case.types:
+        ages = Counter()
+        for u in case.units:
+            if u.type == t.id:
+                ages[u.age] += u.count
+        if ages:
+            inv.append((t.class_, t.id, sum(ages.values()), f"{min(ages)}–{max(ages)}" if len(ages) > 1
+                        else str(min(ages)),
+                        ", ".join(f"{a}: {n}" for a, n in sorted(ages.items()))))
+    out.append(f"<h3>Inventory at the start of {s.start_year}</h3>")
+    out.append(f'<p class="money-note">{case.unit_count} units in {len(case.units)} inventory rows; '
+               "age = completed years of service.</p>")
+    out.append(table(("class", "type", "units", "ages", "units by age"), inv, num=(2,)))
+    out.append("<h3>Budget and limits</h3>")
+    b = case.budget
+    brows = []
+    if b is None or (b.cap is None and not b.cap_by_year):
+        brows.append(("Capital cap", "none — the plan is uncapped"))
+    else:
+        basis = ("gross: purchase prices" if b.basis == "gross"
+                 else "net: purchase prices less market value of units sold that year")
+        brows.append(("Capital cap per year", money(b.cap) if b.cap is not None else "none in other years"))
+        for y, v in sorted(b.cap_by_year.items()):
+            brows.append((f"Cap in {y}", money(v)))
+        brows.append(("Cap basis", basis))
+    if case.limits:
+        for lim in case.limits:
+            brows.append((f"Purchase limit, {lim.class_}", f"at most {lim.max_buys_per_year} new units a year"))
+    else:
+        brows.append(("Purchase limits", "none"))
+    out.append(table(("item", "value"), brows))
+    if case.scenarios:
+        out.append("<h3>Scenarios defined in the case</h3>")
+        out.append(table(("scenario", "note", "changes"),
+                         [(sc.id, sc.note, "; ".join(f"{k} = {v}" for k, v in sc.set.items())) for sc in case.scenarios]))
+    return "\n".join(out)
+
+
+def footer_html(case: Case) -> str:
+    s = case.study
+    return f"""<footer><h2>Cautions</h2>
+<p><strong>{e(CAUTION)}</strong></p>
+<ul>
+<li>A plan is a planning aid, not an instruction to buy or sell. It is only as good as the prices, running costs,
+market values and limits in the case file.</li>
+<li>Inspections, manufacturer and regulatory retirement limits, and local procurement rules come first: a unit
+that fails an inspection or reaches a mandated limit is replaced whatever this plan says.</li>
+<li>Replacement and purchasing decisions belong to qualified professionals who know the units, the service and the
+local rules.</li>
+<li>All money is in constant {s.start_year} currency (real terms); the present cost is discounted to the start of
+{s.start_year} at {s.discount_rate:.2%} per year.</li>
+</ul>
+<p class="small">Made by tenure {e(__version__)} from {e(case.source)} on {_dt.date.today().isoformat()}.
+This page needs no network connection.</p>
+</footer>"""
+
+
+# ---------------------------------------------------------------------------
+# the plan report
+# ---------------------------------------------------------------------------
+def _buys_by_type(plan) -> Counter:
+    c: Counter = Counter()
+    for u in plan.units:
+        for ev in u.events:
+            c[ev.type] += 1
+    return c
+
+
+def summary_html(plan, case: Case) -> str:
+    s = case.study
+    cur = s.start_year
+    buys = _buys_by_type(plan)
+    total_buys = sum(buys.values())
+    capped_years = [y for y in plan.years if y.cap is not None]
+    tight = [y for y in capped_years if y.slack is not None and y.slack < 0.005 * max(abs(y.cap), 1.0)]
+    boxes = [
+        fig_box("Present cost", money(plan.present_cost), f"at the start of {cur}, constant {cur} currency",
+                warn=plan.status == "infeasible"),
+        fig_box("Status", plan.status, STATUS_WORDS.get(plan.status, "") + f" ({plan.method})",
+                warn=plan.status != "optimal"),
+        fig_box("Optimality gap", pct(plan.gap, 2) if plan.status != "infeasible" else "—",
+                f"proven lower bound {money(plan.lower_bound)}" if plan.status == "feasible"
+                else ("no gap: the plan is optimal" if plan.status == "optimal" else "")),
+    ]
+    if plan.premium is not None:
+        boxes.append(fig_box("Premium over the uncapped plan", money(plan.premium),
+                             f"uncapped present cost {money(plan.uncapped_cost)}"))
+    elif not case.capped:
+        boxes.append(fig_box("Premium over the uncapped plan", "0", "this plan has no caps or limits"))
+    else:
+        boxes.append(fig_box("Premium over the uncapped plan", "—", "the uncapped cost was not computed"))
+    mix = ", ".join(f"{t} {n}" for t, n in sorted(buys.items(), key=lambda kv: -kv[1]))
+    boxes.append(fig_box("Replacements", f"{total_buys}", mix or "no unit is replaced"))
+    boxes.append(fig_box("Capital, all years", money(sum(y.capital for y in plan.years)),
+                         f"purchase prices, undiscounted; market value received {money(sum(y.salvage for y in plan.years))}"))
+    if capped_years:
+        boxes.append(fig_box("Years at the cap", f"{len(tight)} of {len(capped_years)}",
+                             ", ".join(str(y.year) for y in tight[:8]) + (" …" if len(tight) > 8 else "")))
+    end_note = (f"market value of units held at {plan.end_year}: {money(plan.end_market_value)}"
+                if plan.end_value == "salvage" else f"units held at {plan.end_year} costed as continuing chains")
+    boxes.append(fig_box("End of the horizon", plan.end_value, end_note))
+    out = ['<div class="figures">' + "".join(boxes) + "</div>"]
+    if plan.status == "infeasible":
+        rows = [(y, money(x)) for y, x in plan.shortfall]
+        out.append('<div class="notice"><strong>No plan fits the caps.</strong> Some units reach their max age in '
+                   "years without enough capital to replace them. Raising these years' caps by at least the "
+                   "amounts below would make a plan possible." + table(("year", "extra capital needed"), rows,
+                                                                       num=(1,)))
+        if plan.forcing_units:
+            out.append("<p>Units whose forced replacement needs the money: "
+                       + e(", ".join(plan.forcing_units[:20])) + (" …" if len(plan.forcing_units) > 20 else "")
+                       + "</p>")
+        out.append("</div>")
+    elif plan.status == "feasible":
+        out.append(f'<div class="notice"><strong>Not proven optimal.</strong> The solver stopped with a plan whose '
+                   f"present cost is at most {pct(plan.gap)} above the least possible ({money(plan.lower_bound)}).</div>")
+    if plan.message:
+        out.append(f'<p class="money-note">Solver note: {e(plan.message)}</p>')
+    return "\n".join(out)
+
+
+def first_years_html(plan, case: Case, n_years: int = 5) -> str:
+    s = case.study
+    last = s.start_year + min(n_years, s.horizon) - 1
+    groups: dict[tuple, list[str]] = {}
+    for u in plan.units:
+        for ev in u.events:
+            if ev.year <= last:
+                key = (ev.year, u.class_, ev.from_type, ev.from_age, ev.type, round(ev.price, 2),
+                       round(ev.market_value, 2))
+                groups.setdefault(key, []).append(u.unit)
+    rows = []
+    for key in sorted(groups):
+        y, cls, ft, fa, tt, p, mv = key
+        names = groups[key]
+        rows.append((y, cls, len(names), f"{ft}, age {fa}", tt, money(p), money(mv),
+                     ", ".join(names[:6]) + (" …" if len(names) > 6 else "")))
+    if not rows:
+        return f"<p>No replacement is planned in {s.start_year}–{last}.</p>"
+    return (f'<p class="money-note">Price and market value are per unit, in constant {s.start_year} currency. '
+            "The full schedule is in plan.xlsx (sheet “units”).</p>"
+            + table(("year", "class", "units", "sell (type, age)", "buy type", "price each", "market value each",
+                     "units"), rows, num=(0, 2, 5, 6)))
+
+
+def years_table_html(plan, case: Case) -> str:
+    rows = []
+    for y in plan.years:
+        rows.append((y.year, y.buys, money(y.capital), money(y.salvage), money(y.om),
+                     money(y.cap) if y.cap is not None else "—", money(y.slack) if y.slack is not None else "—",
+                     f"{y.shadow_price:.3f}" if y.shadow_price is not None else "—",
+                     ", ".join(f"{t} {n}" for t, n in y.buys_by_type.items())))
+    return table(("year", "buys", "capital", "market value received", "O&M", "cap", "room under cap",
+                  "shadow price", "bought"), rows, num=(0, 1, 2, 3, 4, 5, 6, 7))
+
+
+def class_table_html(plan, case: Case) -> str:
+    rows = []
+    for c, v in (plan.by_class or {}).items():
+        n = sum(1 for u in plan.units if u.class_ == c)
+        buys = sum(len(u.events) for u in plan.units if u.class_ == c)
+        rows.append((c, n, buys, money(v)))
+    rows.append(("all classes", len(plan.units), sum(len(u.events) for u in plan.units), money(plan.present_cost)))
+    return table(("class", "units", "replacements", "present cost"), rows, num=(1, 2, 3))
+
+
+def plan_charts(plan, case: Case, life_tables) -> list[tuple[str, str, str, str]]:
+    """(id, title, how to read, svg) of each chart of the plan report, in page order."""
+    cur = case.study.start_year
+    capped = any(y.cap is not None for y in plan.years)
+    out = [
+        ("chart-capital", "Capital per year" + (" against the cap" if capped else ""),
+         ("Each bar is the money spent on new units in that year (purchase prices, undiscounted). "
+          + ("The dashed line is the year's cap; bars marked in vermillion and hatched are over the cap, and "
+             "cross-hatched boxes above the cap are the extra capital a plan would need. "
+             if capped or plan.shortfall else "This plan has no cap, so there is no cap line. ")
+          + f"Money in constant {cur} currency."),
+         charts.capital_chart(plan, case)),
+        ("chart-ages", "Fleet age by year",
+         "One panel per class. Each column is a year, each row an age; the colour says how many units have that "
+         "age in that year (white: none; lighter colours: more units). Age 0 means bought that year. The "
+         "vermillion line is the max age: units are replaced on reaching it.",
+         charts.age_heatmap(plan, case)),
+        ("chart-types", "Units in service by type",
+         "The height of each band is the number of units of that type in service in the year; the total is the "
+         "fleet size. Watch bands shrink as a type is phased out and grow as its successor is bought.",
+         charts.types_chart(plan, case)),
+        ("chart-eac", "Equivalent annual cost by years kept",
+         "For one new unit of each type that can be bought, bought in the year shown: the yearly cost of owning "
+         "it (capital: price less resale value; O&M; and their total) if it is kept N years and then sold. The "
+         "lowest point of the total is the economic life; the shaded band holds the lives whose cost is "
+         f"within the tolerance of the least. Money per year, in constant {cur} currency.",
+         charts.eac_chart(case, life_tables)),
+        ("chart-class-cost", "Present cost by class",
+         f"The present cost of each class's part of the plan, at the start of {cur} in constant {cur} currency "
+         "(purchases and O&M, less market values received and the end value).",
+         charts.class_cost_chart(plan, case)),
+    ]
+    cap_svg = charts.cap_cost_chart(plan, case)
+    if cap_svg is not None:
+        out.append(("chart-cap-cost", "Cost of each year's cap",
+                    "For each capped year: how much the present cost of the plan would fall per 1 of extra cap "
+                    "money in that year (a shadow price from the linear relaxation of the plan). Tall bars mark "
+                    "the years where the cap costs most; a bar of 0 means the cap does not bind.",
+                    cap_svg))
+    return out
+
+
+def plan_report(plan, case: Case, life_tables) -> str:
+    """The whole ``report.html`` of a plan."""
+    s = case.study
+    last = s.start_year + s.horizon - 1
+    title = s.title or "Renewal plan"
+    capped = any(y.cap is not None for y in plan.years)
+    body = [f"<header><h1>{e(title)}</h1>"
+            f'<p class="sub">Renewal plan {s.start_year}–{last} · {case.unit_count} units · '
+            f"{e(plan.method)} · status {e(plan.status)}</p>"
+            f'<p class="sub">All money is in constant {s.start_year} currency (real terms).</p></header>']
+    body.append('<section id="summary"><h2>Summary</h2>')
+    body.append(summary_html(plan, case))
+    body.append("</section>")
+    body.append(f'<section id="first-years"><h2>Replacements in the first years</h2>')
+    body.append(first_years_html(plan, case))
+    body.append("</section>")
+    body.append('<section id="charts"><h2>Charts</h2>')
+    for cid, ttl, read, svg in plan_charts(plan, case, life_tables):
+        body.append(chart_figure(cid, ttl, read, svg))
+    if not capped:
+        body.append('<p class="money-note">The plan has no capital cap, so there is no cost of cap years to show.</p>')
+    body.append("</section>")
+    body.append('<section id="tables"><h2>Tables</h2><h3>Present cost by class</h3>')
+    body.append(class_table_html(plan, case))
+    body.append("<details><summary>Year by year: capital, market value received, O&amp;M, cap</summary>"
+                f'<p class="money-note">Undiscounted amounts in constant {s.start_year} currency; O&amp;M is paid '
+                "at the end of the year. Room under cap is on the cap's basis.</p>"
+                + years_table_html(plan, case) + "</details>")
+    body.append("</section>")
+    body.append('<section id="assumptions"><h2>Assumptions</h2>')
+    body.append(assumptions_html(case))
+    body.append("</section>")
+    body.append(footer_html(case))
+    return page(f"{title} — renewal plan", "\n".join(body))
+
+
+# ---------------------------------------------------------------------------
+# the comparison report
+# ---------------------------------------------------------------------------
+def _cell(x) -> str:
+    """Any JSON-ish value as short text."""
+    if x is None:
+        return "—"
+    if isinstance(x, bool):
+        return "yes" if x else "no"
+    if isinstance(x, (int, float)):
+        return money(x) if abs(float(x)) >= 1000 or isinstance(x, float) else str(x)
+    if isinstance(x, dict):
+        return "; ".join(f"{k}: {_cell(v)}" for k, v in x.items()) or "—"
+    if isinstance(x, (list, tuple)):
+        return ", ".join(_cell(v) for v in x) or "—"
+    return str(x)
+
+
+def _as_list(x) -> list:
+    if x is None:
+        return []
+    if isinstance(x, (list, tuple)):
+        return list(x)
+    return [x]
+
+
+def regret_html(regret: dict) -> str:
+    if not isinstance(regret, dict):
+        return "<p>No regret table was computed.</p>"
+    ids = [str(i) for i in _as_list(regret.get("ids"))]
+    matrix = [list(r) if isinstance(r, (list, tuple)) else [r] for r in _as_list(regret.get("matrix"))]
+    if not matrix:
+        return "<p>No regret table was computed.</p>"
+    n = max(len(r) for r in matrix)
+    col_ids = ids if len(ids) == n else ids[:n] + [f"#{j + 1}" for j in range(len(ids), n)]
+    best = regret.get("least_max_regret")
+    rows = []
+    for i, r in enumerate(matrix):
+        rid = ids[i] if i < len(ids) else f"#{i + 1}"
+        nums = [v for v in (charts._num(x) for x in r) if v is not None]
+        rows.append([rid] + [money(x) for x in r] + [""] * (n - len(r)) + [money(max(nums)) if nums else "—"])
+    out = ['<p class="read">Each row is a plan (the decisions of that scenario); each column a scenario that '
+           "might come true. A cell is the extra present cost of following the row's plan when the column's "
+           "scenario happens, over the best plan for that scenario (0 on the diagonal). The last column is the "
+           "worst case of each row; the highlighted row has the least worst case.</p>"]
+    out.append(table(["plan ↓ / scenario →"] + col_ids + ["largest regret"], rows, num=range(1, n + 2),
+                     cls_rows=lambda i, row: "best" if best is not None and str(row[0]) == str(best) else ""))
+    if best is not None:
+        out.append(f"<p>Least largest regret: <strong>{e(best)}</strong>.</p>")
+    return "\n".join(out)
+
+
+def compare_report(cmp: dict, case: Case) -> str:
+    """The whole ``report.html`` of a comparison of scenarios."""
+    cmp = cmp if isinstance(cmp, dict) else {}
+    s = case.study
+    cur = str(s.start_year)
+    title = s.title or "Scenario comparison"
+    scen = [x for x in _as_list(cmp.get("scenarios")) if isinstance(x, dict)]
+    body = [f"<header><h1>{e(title)}</h1>"
+            f'<p class="sub">Scenario comparison · {len(scen)} scenarios · planning years {s.start_year}–'
+            f"{s.start_year + s.horizon - 1}</p>"
+            f'<p class="sub">All money is in constant {cur} currency (real terms); present costs are at the start '
+            f"of {cur}.</p></header>"]
+    body.append('<section id="scenarios"><h2>Scenarios</h2>')
+    rows = []
+    for j, sc in enumerate(scen):
+        rows.append((sc.get("id", f"#{j + 1}"), sc.get("note") or "", sc.get("status") or "—",
+                     money(sc.get("present_cost")), _signed(sc.get("difference"))))
+    body.append(table(("scenario", "what changes", "status", "present cost", "difference"), rows, num=(3, 4))
+                if rows else "<p>The comparison holds no scenario.</p>")
+    body.append("</section>")
+    body.append('<section id="charts"><h2>Charts</h2>')
+    body.append(chart_figure("chart-compare-cost", "Present cost by scenario",
+                             "The bar is each scenario's least present cost; the bracket is its difference from "
+                             f"the reference as reported. Money in constant {cur} currency.",
+                             charts.compare_cost_chart(scen, cur)))
+    caps = {}
+    if case.budget is not None and (case.budget.cap is not None or case.budget.cap_by_year):
+        caps = {y: case.budget.cap_for(y) for y in s.years if case.budget.cap_for(y) is not None}
+    body.append(chart_figure("chart-compare-capital", "Capital per year by scenario",
+                             "One line per scenario: the capital spent on new units each year (undiscounted). "
+                             + ("The thick grey step is the base case's cap. " if caps else "")
+                             + f"Money in constant {cur} currency.",
+                             charts.compare_capital_chart(scen, cur, caps)))
+    body.append("</section>")
+    body.append('<section id="regret"><h2>Regret</h2>')
+    body.append(regret_html(cmp.get("regret")))
+    body.append("</section>")
+    body.append('<section id="decisions"><h2>Decisions for the first year</h2>')
+    safe = _as_list(cmp.get("safe_now"))
+    if safe:
+        body.append("<p>Actions that every scenario's plan takes in the first year (safe to start now):</p><ul>"
+                    + "".join(f"<li>{e(_cell(x))}</li>" for x in safe) + "</ul>")
+    else:
+        body.append("<p>No first-year action is common to every scenario.</p>")
+    fy = [(sc.get("id", f"#{j + 1}"), _cell(sc.get("first_year_actions"))) for j, sc in enumerate(scen)]
+    if fy:
+        body.append("<h3>First-year actions of each scenario</h3>" + table(("scenario", "actions"), fy))
+    types = []
+    for sc in scen:
+        bbt = sc.get("buys_by_type")
+        if isinstance(bbt, dict):
+            for t in bbt:
+                if t not in types:
+                    types.append(t)
+    if types:
+        brow = []
+        for j, sc in enumerate(scen):
+            bbt = sc.get("buys_by_type") if isinstance(sc.get("buys_by_type"), dict) else {}
+            brow.append([sc.get("id", f"#{j + 1}")] + [_cell(bbt.get(t, 0)) for t in types])
+        body.append("<h3>Units bought over the horizon, by type</h3>"
+                    + table(["scenario"] + types, brow, num=range(1, len(types) + 1)))
+    body.append("</section>")
+    body.append('<section id="assumptions"><h2>Assumptions of the base case</h2>')
+    body.append(assumptions_html(case))
+    body.append("</section>")
+    body.append(footer_html(case))
+    return page(f"{title} — scenario comparison", "\n".join(body))
+
+
+def _signed(x) -> str:
+    v = charts._num(x)
+    if v is None:
+        return "—"
+    return ("+" if v > 0 else "") + money(v)

@@ -1,0 +1,273 @@
+"""``plan.xlsx``: the plan as a workbook for people who work in spreadsheets.
+
+Sheets: ``summary`` (key figures), ``years`` (one row per planning year, a
+total row), ``units`` (one row per replacement of each unit), ``policy``
+(the uncapped keep/replace policy of every class by age and year, from
+:func:`tenure.chain.backward`) and ``assumptions`` (the case as read).
+
+Money cells hold the plan's figures rounded to the cent, exactly as in
+``plan.json``, and are shown with a thousands format; the currency is the
+case's constant start-year currency (docs/conventions.md).  The workbook is
+built in memory; :mod:`tenure.report.documents` writes it atomically.
+"""
+
+from __future__ import annotations
+
+import io
+from collections import Counter
+from typing import Any, Sequence
+
+from openpyxl import Workbook
+from openpyxl.styles import Alignment, Font, PatternFill
+from openpyxl.utils import get_column_letter
+
+from .. import __version__
+from ..model import Case
+from .text import CAUTION
+
+MONEY = "#,##0;-#,##0"
+RATE = "0.00%"
+SHADOW = "0.0000"
+HEAD_FONT = Font(bold=True)
+HEAD_FILL = PatternFill("solid", fgColor="DCE9F2")   # a pale tint of Okabe–Ito blue #0072B2
+SECTION_FONT = Font(bold=True, size=12, color="0072B2")
+TOTAL_FONT = Font(bold=True)
+
+
+def _r(x):
+    """Money rounded to the cent as in plan.json (None stays empty)."""
+    return None if x is None else round(float(x), 2)
+
+
+class _Sheet:
+    """Writes rows into a worksheet and remembers the widest text of each column."""
+
+    def __init__(self, ws):
+        self.ws = ws
+        self.row = 0
+        self.width: Counter = Counter()
+
+    def put(self, values: Sequence[Any], fmt: dict[int, str] | None = None, font=None, fill=None) -> int:
+        self.row += 1
+        for j, v in enumerate(values, start=1):
+            c = self.ws.cell(row=self.row, column=j, value=v)
+            if fmt and (j - 1) in fmt and v is not None:
+                c.number_format = fmt[j - 1]
+            if font is not None:
+                c.font = font
+            if fill is not None:
+                c.fill = fill
+            shown = len(f"{v:,.0f}") if isinstance(v, float) else len(str(v)) if v is not None else 0
+            self.width[j] = max(self.width[j], shown)
+        return self.row
+
+    def head(self, values: Sequence[str]) -> int:
+        r = self.put(values, font=HEAD_FONT, fill=HEAD_FILL)
+        for j in range(1, len(values) + 1):
+            self.ws.cell(row=r, column=j).alignment = Alignment(wrap_text=True, vertical="top")
+        return r
+
+    def blank(self):
+        self.row += 1
+
+    def finish(self, freeze: str | None = "A2", min_w: int = 8, max_w: int = 60, fixed: dict | None = None):
+        for j, w in self.width.items():
+            self.ws.column_dimensions[get_column_letter(j)].width = max(min_w, min(max_w, w + 2))
+        for j, w in (fixed or {}).items():
+            self.ws.column_dimensions[get_column_letter(j)].width = w
+        if freeze:
+            self.ws.freeze_panes = freeze
+
+
+def _head_width(sh: _Sheet, head: Sequence[str], cap: int = 18):
+    """Headers wrap, so they count for at most ``cap`` characters of width."""
+    for j, h in enumerate(head, start=1):
+        sh.width[j] = max(sh.width[j] if sh.width[j] else 0, min(cap, len(h)))
+
+
+# ---------------------------------------------------------------------------
+def summary_sheet(ws, plan, case: Case):
+    s = case.study
+    cur = s.start_year
+    sh = _Sheet(ws)
+    sh.head(("item", "value", "unit / note"))
+    rows = [
+        ("study", s.title, ""),
+        ("case file", case.source, ""),
+        ("status", plan.status, plan.method),
+        ("present cost", _r(plan.present_cost), f"constant {cur} currency, present worth at the start of {cur}"),
+        ("proven lower bound", _r(plan.lower_bound), f"constant {cur} currency"),
+        ("optimality gap", plan.gap, "fraction of the present cost"),
+        ("uncapped present cost", _r(plan.uncapped_cost), "empty when not computed"),
+        ("premium over the uncapped plan", _r(plan.premium), f"constant {cur} currency"),
+        ("replacements", sum(len(u.events) for u in plan.units), "units bought over the horizon"),
+        ("capital, all years", _r(sum(_r(y.capital) for y in plan.years)), "undiscounted purchase prices"),
+        ("market value received, all years", _r(sum(_r(y.salvage) for y in plan.years)), "undiscounted"),
+        ("O&M, all years", _r(sum(_r(y.om) for y in plan.years)), "undiscounted"),
+        ("end of the horizon", plan.end_year, f"end value rule: {plan.end_value}"),
+        ("market value held at the end", _r(plan.end_market_value), f"at {plan.end_year} prices"),
+        ("cap basis", plan.basis, ""),
+    ]
+    fmt_for = {"present cost": MONEY, "proven lower bound": MONEY, "uncapped present cost": MONEY,
+               "premium over the uncapped plan": MONEY, "capital, all years": MONEY,
+               "market value received, all years": MONEY, "O&M, all years": MONEY,
+               "market value held at the end": MONEY, "optimality gap": "0.000%"}
+    for item, value, note in rows:
+        sh.put((item, value, note), fmt={1: fmt_for[item]} if item in fmt_for else None)
+    for cls, v in (plan.by_class or {}).items():
+        sh.put((f"present cost, {cls}", _r(v), f"constant {cur} currency"), fmt={1: MONEY})
+    for y, x in plan.shortfall or ():
+        sh.put((f"shortfall {y}", _r(x), "extra capital needed for a plan to fit the caps"), fmt={1: MONEY})
+    sh.blank()
+    sh.put(("caution", CAUTION, ""))
+    sh.put(("made by", f"tenure {__version__}", ""))
+    sh.finish(fixed={1: 34, 2: 22, 3: 60})
+
+
+YEAR_HEAD = ("year", "buys", "capital", "cap", "room under cap (slack)", "O&M", "market value received",
+             "net capital (capital less market value)", "shadow price of the cap")
+
+
+def years_sheet(ws, plan, case: Case):
+    bought = []
+    for y in plan.years:
+        for t in y.buys_by_type:
+            if t not in bought:
+                bought.append(t)
+    order = {t.id: j for j, t in enumerate(case.types)}
+    bought.sort(key=lambda t: order.get(t, len(order)))
+    head = list(YEAR_HEAD) + [f"bought: {t}" for t in bought]
+    sh = _Sheet(ws)
+    sh.head(head)
+    fmt = {2: MONEY, 3: MONEY, 4: MONEY, 5: MONEY, 6: MONEY, 7: MONEY, 8: SHADOW}
+    for y in plan.years:
+        cap, sal = _r(y.capital), _r(y.salvage)
+        sh.put([y.year, y.buys, cap, _r(y.cap), _r(y.slack), _r(y.om), sal, _r(cap - sal), y.shadow_price]
+               + [y.buys_by_type.get(t, 0) for t in bought], fmt=fmt)
+    tot = [_r(sum(_r(getattr(y, f)) for y in plan.years)) for f in ("capital", "om", "salvage")]
+    sh.put(["total", sum(y.buys for y in plan.years), tot[0], None, None, tot[1], tot[2], _r(tot[0] - tot[2]), None]
+           + [sum(y.buys_by_type.get(t, 0) for y in plan.years) for t in bought], fmt=fmt, font=TOTAL_FONT)
+    _head_width(sh, head)
+    sh.finish()
+
+
+UNIT_HEAD = ("unit", "class", "type at start", "age at start", "year", "action", "sold type", "sold at age",
+             "bought type", "price", "market value received", "extra cost to defer one year",
+             "extra cost to advance one year", "unit present cost")
+
+
+def units_sheet(ws, plan, case: Case):
+    sh = _Sheet(ws)
+    sh.head(UNIT_HEAD)
+    fmt = {9: MONEY, 10: MONEY, 11: MONEY, 12: MONEY, 13: MONEY}
+    for u in plan.units:
+        head = [u.unit, u.class_, u.start_type, u.start_age]
+        if not u.events:
+            sh.put(head + [None, "keep", None, None, None, None, None, None, None, _r(u.present_cost)], fmt=fmt)
+        for ev in u.events:
+            sh.put(head + [ev.year, ev.action, ev.from_type, ev.from_age, ev.type, _r(ev.price),
+                           _r(ev.market_value), _r(ev.defer_cost), _r(ev.advance_cost), _r(u.present_cost)], fmt=fmt)
+    _head_width(sh, UNIT_HEAD)
+    sh.finish(freeze="B2")
+
+
+def policy_sheet(ws, case: Case, solutions: dict | None):
+    """Blocks per class and held type: rows age, columns year; '·' keep, else the type to buy."""
+    from ..chain import KEEP
+
+    s = case.study
+    sh = _Sheet(ws)
+    sh.head(["age \\ year"] + list(s.years))
+    if not solutions:
+        sh.put(("no policy: no class holds units",))
+        sh.finish()
+        return
+    sh.put(("'·' keep the unit another year; a type id: sell the unit and buy that type. The policy ignores caps "
+            "and limits (the uncapped optimum).",))
+    for cls, sol in solutions.items():
+        g = sol.graph
+        for t, tid in enumerate(g.types):
+            sh.blank()
+            sh.put((f"{cls}: held type {tid} (max age {int(g.max_age[t])})",), font=SECTION_FONT)
+            for a in range(0, int(g.max_age[t]) + 1):
+                cells = []
+                for k in range(g.horizon):
+                    act = int(sol.policy[k, t, a])
+                    cells.append("·" if act == KEEP else (g.types[act] if act >= 0 else "—"))
+                sh.put([a] + cells)
+    for j in range(2, s.horizon + 2):
+        col = [ws.cell(row=r, column=j).value for r in range(3, sh.row + 1)]
+        sh.width[j] = max([len(str(v)) for v in col if v is not None] + [5])
+        for r in range(2, sh.row + 1):
+            ws.cell(row=r, column=j).alignment = Alignment(horizontal="center")
+    sh.width[1] = 10
+    sh.finish(freeze="B2", min_w=5)
+
+
+def assumptions_sheet(ws, case: Case):
+    s = case.study
+    sh = _Sheet(ws)
+    sh.head(("section", "item", "value", "unit / note"))
+    add = sh.put
+    add(("study", "title", s.title, ""))
+    add(("study", "case file", case.source, ""))
+    add(("study", "start year", s.start_year, "planning year 0"))
+    add(("study", "horizon", s.horizon, "years"))
+    add(("study", "discount rate", s.discount_rate, "real, per year"), fmt={2: RATE})
+    add(("study", "end value", s.end_value, ""))
+    add(("study", "money", f"constant {s.start_year} currency", ""))
+    b = case.budget
+    if b is None or (b.cap is None and not b.cap_by_year):
+        add(("budget", "cap", "none", "uncapped"))
+    else:
+        add(("budget", "cap per year", b.cap, f"constant {s.start_year} currency"), fmt={2: MONEY})
+        for y, v in sorted(b.cap_by_year.items()):
+            add(("budget", f"cap in {y}", v, f"constant {s.start_year} currency"), fmt={2: MONEY})
+        add(("budget", "basis", b.basis, "gross: purchase prices; net: less market value of units sold"))
+    for lim in case.limits:
+        add(("limit", lim.class_, lim.max_buys_per_year, "most new units per year"))
+    for sc in case.scenarios:
+        add(("scenario", sc.id, "; ".join(f"{k} = {v}" for k, v in sc.set.items()), sc.note))
+    sh.width[3] = min(sh.width[3], 30)
+
+    sh.blank()
+    sh.put(("asset types",), font=SECTION_FONT)
+    thead = ("type", "class", f"price ({s.start_year})", "price change per year", "buy from", "buy until",
+             "max age", "O&M form", "O&M year 1", "O&M gradient per year", "O&M growth per year", "O&M list",
+             "O&M change per vintage", "market value form", "retain per year", "straight-line life",
+             "straight-line floor", "market value list")
+    sh.head(thead)
+    for t in case.types:
+        om, sv = t.om, t.salvage
+        sh.put((t.id, t.class_, t.price, t.price_change, t.buy_from, t.buy_until, t.max_age, om.kind,
+                om.first if om.kind != "table" else None, om.gradient if om.kind == "gradient" else None,
+                om.growth if om.kind == "growth" else None,
+                ", ".join(f"{x:g}" for x in om.table) if om.kind == "table" else None, t.om_change, sv.kind,
+                sv.retain if sv.kind == "retain" else None, sv.life if sv.kind == "line" else None,
+                sv.floor if sv.kind == "line" else None,
+                ", ".join(f"{x:g}" for x in sv.table) if sv.kind == "table" else None),
+               fmt={2: MONEY, 3: RATE, 8: MONEY, 9: MONEY, 10: RATE, 12: RATE, 14: RATE, 16: RATE})
+    sh.blank()
+    sh.put((f"inventory at the start of {s.start_year}",), font=SECTION_FONT)
+    sh.head(("id", "type", "age", "count"))
+    for u in case.units:
+        sh.put((u.id, u.type, u.age, u.count))
+    for j in range(1, 19):
+        sh.width[j] = min(max(sh.width[j], 8), 24)
+    sh.finish(fixed={1: 26})
+
+
+def workbook_bytes(plan, case: Case, solutions: dict | None = None) -> bytes:
+    """The whole ``plan.xlsx`` as bytes."""
+    wb = Workbook()
+    summary_sheet(wb.active, plan, case)
+    wb.active.title = "summary"
+    years_sheet(wb.create_sheet("years"), plan, case)
+    units_sheet(wb.create_sheet("units"), plan, case)
+    policy_sheet(wb.create_sheet("policy"), case, solutions)
+    assumptions_sheet(wb.create_sheet("assumptions"), case)
+    wb.properties.creator = f"tenure {__version__}"
+    wb.properties.title = case.study.title
+    buf = io.BytesIO()
+    wb.save(buf)
+    return buf.getvalue()
