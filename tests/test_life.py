@@ -86,7 +86,7 @@ def test_newnan_13_1_minimum_eac_is_4589():
 
 
 def test_newnan_13_1_gradient_form_gives_the_same_table():
-    # the same O&M as { first = 500, gradient = 1300 } and market value retained at 0 … (list of zeros)
+    # the same O&M as { first = 500, gradient = 1300 }; no market value (a one-entry list of 0, kept at later ages)
     t = AssetType(id="g", class_="c", price=7500.0, max_age=8, om=OMCurve(kind="gradient", first=500.0,
                   gradient=1300.0), salvage=ValueCurve(kind="table", table=(0.0,)))
     a, b = life_table(t, 0.08, Y0), life_table(NEWNAN_13_1, 0.08, Y0)

@@ -31,6 +31,7 @@ References
 
 from __future__ import annotations
 
+import math
 from dataclasses import dataclass, field
 
 import networkx as nx
@@ -215,10 +216,20 @@ class ChainSolution:
 
 
 def _first_min(x: np.ndarray) -> tuple[int, float]:
-    m = float(np.min(x))
-    if not np.isfinite(m):
-        return -1, m
-    return int(np.flatnonzero(x <= m + TIE * max(1.0, abs(m)))[0]), m
+    """Index of the least entry of a short vector (the first within TIE of it) and the least value.
+
+    Plain Python over the T entries of one stage: for a handful of types this is several
+    times faster than the equivalent numpy reductions, with the same result.
+    """
+    xs = x.tolist()
+    m = min(xs)
+    if not math.isfinite(m):
+        return -1, float(m)
+    lim = m + TIE * max(1.0, abs(m))
+    for idx, val in enumerate(xs):
+        if val <= lim:
+            return idx, float(m)
+    return -1, float(m)  # pragma: no cover - unreachable for finite m
 
 
 def backward(g: StageGraph, buy_pw: np.ndarray | None = None, sale_pw: np.ndarray | None = None) -> ChainSolution:
@@ -245,21 +256,31 @@ def backward(g: StageGraph, buy_pw: np.ndarray | None = None, sale_pw: np.ndarra
     best = np.empty(H, dtype=np.int16)
     keepv = np.empty((H, T, A1))
     repv = np.empty((H, T, A1))
-    nxt_shift = np.empty((T, A1))
+    # the oldest age column can never be kept (keep_pw is inf there): its keep value is inf
+    keepv[:, :, -1] = np.inf
+    keep_pw = g.keep_pw[:, :, :-1]
+    invalid = ~g.valid
+    tol = np.empty((T, A1))
+    use_keep = np.empty((T, A1), dtype=bool)
+    # each stage writes into preallocated rows (no temporaries); same arithmetic as
+    # keep = keep_pw + V_{k+1} shifted, rep = b − sale, keep wins when keep ≤ rep + TIE·max(1, |rep|)
     for k in range(H - 1, -1, -1):
         nxt = V[k + 1]
-        nxt_shift[:, :-1] = nxt[:, 1:]
-        nxt_shift[:, -1] = np.inf
-        keep = g.keep_pw[k] + nxt_shift
+        keep, rep, vk, pk = keepv[k], repv[k], V[k], pol[k]
+        np.add(keep_pw[k], nxt[:, 1:], out=keep[:, :-1])
         j, b = _first_min(buy[k] + nxt[:, 1])
-        rep = b - sale[k]
-        use_keep = keep <= rep + TIE * np.maximum(1.0, np.abs(rep))
-        V[k] = np.where(use_keep, keep, rep)
-        V[k][~g.valid] = np.inf
-        pol[k] = np.where(use_keep, KEEP, j)
+        np.subtract(b, sale[k], out=rep)
+        np.abs(rep, out=tol)
+        np.maximum(tol, 1.0, out=tol)
+        tol *= TIE
+        tol += rep
+        np.less_equal(keep, tol, out=use_keep)
+        np.copyto(vk, rep)
+        np.copyto(vk, keep, where=use_keep)
+        np.copyto(vk, np.inf, where=invalid)
+        pk.fill(j)
+        np.copyto(pk, KEEP, where=use_keep)
         best[k] = j
-        keepv[k] = keep
-        repv[k] = rep
     return ChainSolution(graph=g, value=V, policy=pol, best_buy=best, keep_value=keepv, replace_value=repv)
 
 

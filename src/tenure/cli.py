@@ -85,19 +85,18 @@ def cmd_plan(args) -> int:
         raise UsageError(f"--gap {args.gap!r}: must be a fraction in [0, 1), e.g. 0.005")
     plan = solve(case, solver=args.solver, time_limit=args.time_limit, gap=args.gap, progress=not args.quiet)
     out = Path(args.out)
-    write_plan(plan, out)
-    _extra_writers(plan, case, out)
-    print(text.plan_summary(plan, case, str(out)))
+    written = [p.name for p in write_plan(plan, out)]
+    written += _extra_writers(plan, case, out)
+    print(text.plan_summary(plan, case, str(out), written))
     return EXIT_INFEASIBLE if plan.status == "infeasible" else 0
 
 
-def _extra_writers(plan, case, out: Path) -> None:
-    """Human-facing files (report, spreadsheet) when their writers are installed."""
-    try:
-        from .report import documents
-    except ImportError:
-        return
-    documents.write_all(plan, case, out)
+def _extra_writers(plan, case, out: Path) -> list[str]:
+    """Human-facing files (report, spreadsheet); returns their names."""
+    from .report import documents
+
+    paths = documents.write_all(plan, case, out) or []
+    return [Path(p).name for p in paths]
 
 
 def cmd_policy(args) -> int:
@@ -115,6 +114,66 @@ def cmd_policy(args) -> int:
     g = chain.build_class_graph(case, args.class_)
     sol = chain.backward(g)
     print(text.policy_text(sol, case, [args.type] if args.type else ids))
+    return 0
+
+
+# ---------------------------------------------------------------------------
+def cmd_compare(args) -> int:
+    from . import scenarios as sc
+    from .parallel import ClusterError
+
+    case = _case(args.case)
+    extra = sc.read_scenario_file(args.scenarios, case)[0] if args.scenarios else []
+    wanted = [w.strip() for item in (args.scenario or []) for w in item.split(",") if w.strip()]
+    try:
+        options = sc.run_options(args.solver, args.time_limit, args.gap, args.workers)
+        chosen = sc.select_scenarios(case, wanted, extra)
+    except ValueError as exc:
+        raise UsageError(str(exc)) from None
+    if not chosen:
+        raise UsageError(f"nothing to compare: {case.source} has no [[scenario]] blocks (add some or give "
+                         "--scenarios FILE)" if not wanted else "nothing to compare: name a scenario other than base")
+    try:
+        doc = sc.compare(case, chosen, options=options, workers=args.workers, cluster=args.cluster,
+                         progress=not args.quiet)
+    except ClusterError as exc:
+        raise UsageError(str(exc)) from None
+    print(sc.compare_text(doc))
+    if args.out:
+        paths = sc.write_compare(doc, case, args.out)
+        print(f"\nwritten to {args.out}/: " + ", ".join(Path(p).name for p in paths))
+    print(text.CAUTION)
+    base = doc["scenarios"][0]
+    return EXIT_INFEASIBLE if base["status"] == "infeasible" else 0
+
+
+def cmd_sweep(args) -> int:
+    from . import scenarios as sc
+    from .parallel import ClusterError
+
+    case = _case(args.case)
+    try:
+        options = sc.run_options(args.solver, args.time_limit, args.gap, args.workers)
+    except ValueError as exc:
+        raise UsageError(str(exc)) from None
+    if args.vary and args.samples is not None:
+        raise UsageError("give either --vary (a grid) or --samples (Monte Carlo), not both")
+    if not args.vary and args.samples is None:
+        raise UsageError("nothing to sweep: give --vary PATH=LOW:HIGH:STEPS or --samples N")
+    uncertain = list(case.uncertain)
+    if args.scenarios:
+        uncertain += sc.read_scenario_file(args.scenarios, case)[1]
+    try:
+        axes = [sc.parse_vary(v) for v in args.vary or []]
+        doc = sc.sweep(case, axes=axes, samples=args.samples, seed=args.seed, uncertain=uncertain,
+                       options=options, workers=args.workers, cluster=args.cluster, progress=not args.quiet)
+    except (ValueError, ClusterError) as exc:
+        raise UsageError(str(exc)) from None
+    print(sc.sweep_text(doc))
+    if args.out:
+        paths = sc.write_sweep(doc, args.out)
+        print(f"\nwritten to {args.out}/: " + ", ".join(Path(p).name for p in paths))
+    print(text.CAUTION)
     return 0
 
 
@@ -151,6 +210,34 @@ def build_parser() -> argparse.ArgumentParser:
     c.add_argument("--class", dest="class_", required=True, help="class name")
     c.add_argument("--type", help="held type (default: every type of the class)")
     c.set_defaults(func=cmd_policy)
+
+    def run_options(c):
+        c.add_argument("--out", help="folder for the JSON and CSV results (default: print only)")
+        c.add_argument("--workers", type=int, default=1, help="local worker processes (1)")
+        c.add_argument("--cluster", metavar="ADDRESS",
+                       help="send the solves to a running Dask scheduler, e.g. tcp://10.0.0.5:8786")
+        c.add_argument("--solver", choices=("highs", "cbc"), default="highs", help="integer-program solver (highs)")
+        c.add_argument("--time-limit", type=float, default=120.0, help="seconds per capped solve (120)")
+        c.add_argument("--gap", type=float, default=0.005, help="relative optimality gap to stop at (0.005)")
+        c.add_argument("--quiet", action="store_true", help="no progress bar")
+
+    c = sub.add_parser("compare", help="solve the base case and each scenario; regret and what is safe to commit now")
+    c.add_argument("case")
+    c.add_argument("--scenario", action="append", metavar="ID",
+                   help="scenario id to compare (repeat, or a,b; default: every scenario)")
+    c.add_argument("--scenarios", metavar="FILE", help="TOML file of extra [[scenario]] blocks")
+    run_options(c)
+    c.set_defaults(func=cmd_compare)
+
+    c = sub.add_parser("sweep", help="present cost and first-year decisions over a grid or Monte Carlo draws")
+    c.add_argument("case")
+    c.add_argument("--vary", action="append", metavar="PATH=LOW:HIGH:STEPS",
+                   help="grid over one input (repeat for a multi-way grid)")
+    c.add_argument("--samples", type=int, metavar="N", help="Monte Carlo draws of the [[uncertain]] inputs")
+    c.add_argument("--seed", type=int, default=0, help="seed of the draws (0)")
+    c.add_argument("--scenarios", metavar="FILE", help="TOML file of extra [[uncertain]] blocks")
+    run_options(c)
+    c.set_defaults(func=cmd_sweep)
     return p
 
 

@@ -176,7 +176,7 @@ def _run_dask(fn, tasks, address: str, progress: Progress | None) -> list[Any]:
         raise ClusterError(f"cannot reach the Dask scheduler at {address!r}: {exc}") from None
     try:
         futures = client.map(fn, tasks, pure=False)
-        for _ in dask_completed(futures):
+        for _ in dask_completed(futures, loop=client.loop):
             if progress is not None:
                 progress.advance()
         return client.gather(futures)

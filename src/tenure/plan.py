@@ -197,7 +197,9 @@ def assemble(case: Case, graphs: dict[str, StageGraph], groups: Sequence[PathGro
     om = np.zeros(H)
     by_type: list[Counter] = [Counter() for _ in range(H)]
     end_mv = 0.0
-    by_class: dict[str, float] = {c: 0.0 for c in case.classes if case.units_of(c)}
+    class_of = {t.id: t.class_ for t in case.types}
+    held = {class_of[u.type] for u in case.units}
+    by_class: dict[str, float] = {c: 0.0 for c in case.classes if c in held}
     units: list[UnitPlan] = []
     total = 0.0
     for grp in groups:

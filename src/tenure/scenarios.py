@@ -307,6 +307,17 @@ def read_scenario_file(path: Path | str, case: Case) -> tuple[list[Scenario], li
 # ===========================================================================
 # solve tasks (picklable; run anywhere)
 # ===========================================================================
+def run_options(solver: str, time_limit: float, gap: float, workers: int) -> dict:
+    """Checked solver options for the tasks; ValueError with a one-line message otherwise."""
+    if not (time_limit > 0):
+        raise ValueError(f"--time-limit {time_limit!r}: must be a number of seconds > 0")
+    if not (0 <= gap < 1):
+        raise ValueError(f"--gap {gap!r}: must be a fraction in [0, 1), e.g. 0.005")
+    if workers < 1:
+        raise ValueError(f"--workers {workers!r}: must be a whole number ≥ 1")
+    return {"solver": solver, "time_limit": float(time_limit), "gap": float(gap)}
+
+
 def _lean(doc: Mapping) -> dict:
     """The document without its scenario and uncertain blocks (not needed to solve it)."""
     return {k: v for k, v in doc.items() if k not in SCENARIO_FILE_KEYS}
@@ -454,8 +465,7 @@ def recost(plan_dict: Mapping, case: Case) -> Recost:
                 if new.class_ != cls:
                     broken[f"{y}: buys {new.id} (class {new.class_}) for a {cls} unit"] += 1
                 if not new.buyable(y):
-                    window = f"{new.buy_from or '…'}–{new.buy_until or '…'}"
-                    broken[f"{y}: buys {new.id}, which can be bought only in {window}"] += 1
+                    broken[f"{y}: buys {new.id}, which can be bought only {_window(new)}"] += 1
                 p = curves.price(new, y, y0)
                 mv = curves.market_value(t, a, y, y0)
                 total += v[k] * (p - mv) + v[k + 1] * curves.om(new, 1, y, y0)
@@ -486,8 +496,15 @@ def recost(plan_dict: Mapping, case: Case) -> Recost:
             lim = case.limit_for(cls)
             if lim is not None and n > lim:
                 broken[f"{y}: buys {n} {cls} units, over the limit of {lim}"] += 1
-    msgs = tuple(m if n == 1 or "cap" in m or "limit" in m else f"{m} ({n} units)" for m, n in broken.items())
+    msgs = tuple(m if n == 1 or "cap" in m or "limit" in m else f"{m} ({n} units)"
+                 for m, n in sorted(broken.items(), key=lambda kv: kv[0][:4]))
     return Recost(float(total), msgs)
+
+
+def _window(t) -> str:
+    if t.buy_from is not None and t.buy_until is not None:
+        return f"in {t.buy_from}–{t.buy_until}"
+    return f"from {t.buy_from}" if t.buy_from is not None else f"until {t.buy_until}"
 
 
 def regret_table(ids: Sequence[str], plans: Mapping[str, Mapping | None], cases: Mapping[str, Case]) -> dict:
@@ -496,7 +513,9 @@ def regret_table(ids: Sequence[str], plans: Mapping[str, Mapping | None], cases:
     Returns the ``"regret"`` part of ``compare.json``: ``cost[i][j]`` (plan of
     scenario *i* under scenario *j*), ``regret[i][j]`` (None where plan *i*
     breaks a rule under *j* or cannot be laid on it), ``breaks[i][j]``,
-    ``best_under[j]``, ``max_regret[i]``, ``least_max_regret``.
+    ``best_under[j]``, ``max_regret[i]`` (None when the plan breaks somewhere),
+    ``least_max_regret`` and ``rule``; ``ids`` and ``matrix`` (rows: plans,
+    columns: scenarios, in ``ids`` order) repeat ``regret`` as a list of lists.
     """
     cost: dict[str, dict[str, float | None]] = {}
     breaks: dict[str, dict[str, list[str]]] = {}
@@ -530,7 +549,9 @@ def regret_table(ids: Sequence[str], plans: Mapping[str, Mapping | None], cases:
                 "of least maximum regret where it can be carried out, is chosen")
     else:
         rule = "least maximum regret among the plans that break no rule under any scenario"
-    return {"scenarios": list(ids), "cost": _round_nested(cost), "regret": _round_nested(regret),
+    rounded = _round_nested(regret)
+    return {"scenarios": list(ids), "ids": list(ids), "matrix": [[rounded[i][j] for j in ids] for i in ids],
+            "cost": _round_nested(cost), "regret": rounded,
             "breaks": breaks, "best_under": {j: _r(x) for j, x in best.items()},
             "max_regret": {i: _r(x) for i, x in max_regret.items()}, "least_max_regret": choice, "rule": rule}
 
@@ -675,6 +696,8 @@ def _cell(x):
 def _money(x, signed=False) -> str:
     if x is None:
         return "—"
+    if signed and round(x) == 0:
+        return "0"
     return f"{x:+,.0f}" if signed else f"{x:,.0f}"
 
 
@@ -735,6 +758,23 @@ def compare_text(doc: Mapping) -> str:
     for t in types:
         line(f"  {t}", [r["buys_by_type"].get(t, 0) for r in rows])
 
+    base = rows[0]
+    if len(rows) > 1:
+        out.append("")
+        out.append("In brief")
+    for r in rows[1:]:
+        if r["difference"] is None:
+            out.append(f"  {r['id']}: {r['status']} — {r['message'] or 'no comparable plan'}")
+            continue
+        rel = r["difference"] / abs(base["present_cost"]) if base["present_cost"] else 0.0
+        b_under = doc["regret"]["breaks"]["base"][r["id"]]
+        fate = ("the base plan cannot be carried out under it (" + b_under[0] + (" …" if len(b_under) > 1 else "")
+                + ")") if b_under else (
+            f"kept as is, the base plan would cost {_money(doc['regret']['regret']['base'][r['id']])} more there "
+            "than the best plan")
+        out.append(f"  {r['id']}: re-planned, {_money(r['difference'], signed=True)} ({rel:+.1%}) against the base; "
+                   + fate)
+
     differ = doc["differ_early"]
     out.append("")
     if differ:
@@ -766,6 +806,12 @@ def compare_text(doc: Mapping) -> str:
     for i, j, msgs in notes:
         more = f" (+{len(msgs) - 3} more)" if len(msgs) > 3 else ""
         out.append(f"  {i} plan under {j}: " + "; ".join(msgs[:3]) + more)
+    for i in ids:
+        own = reg["regret"][i][i]
+        if own is not None and own > 0.005 * max(abs(reg["best_under"][i] or 0.0), 1.0) * 1e-3:
+            cheaper = [k for k in ids if reg["regret"][k][i] == 0.0]
+            out.append(f"  note: under {i} the {', '.join(cheaper) or 'another'} plan is {_money(own)} cheaper than "
+                       f"{i}'s own plan (the capped solve stops within its optimality gap)")
     ch = reg["least_max_regret"]
     if ch is not None:
         mr = reg["max_regret"].get(ch)
@@ -917,7 +963,7 @@ def sweep(case: Case, *, axes: Sequence[Axis] = (), samples: int | None = None, 
         mode = "grid"
         names = [a.path for a in axes]
         inputs = [{"path": a.path, "low": a.low, "high": a.high, "steps": a.steps} for a in axes]
-        ends = [(a.path, a.low, a.high, f"--vary {a.path}") for a in axes]
+        ends = [(a.path, a.low, a.high, "--vary") for a in axes]
         n_points = math.prod(a.steps for a in axes)
         if n_points > max_points:
             raise ValueError(f"the grid has {n_points} points; at most {max_points} are allowed")
@@ -931,7 +977,7 @@ def sweep(case: Case, *, axes: Sequence[Axis] = (), samples: int | None = None, 
             raise ValueError(f"--samples {samples}: must be a whole number ≥ 1")
         inputs = [{"path": u.path, "dist": u.dist, "low": u.low, "high": u.high,
                    **{k: getattr(u, k) for k in ("mode", "mean", "sd") if getattr(u, k) is not None}} for u in unc]
-        ends = [(u.path, u.low, u.high, f"uncertain[{j}] {u.path}") for j, u in enumerate(unc, start=1)]
+        ends = [(u.path, u.low, u.high, f"uncertain[{j}]") for j, u in enumerate(unc, start=1)]
         x = draw(unc, samples, seed)
         points = []
         for row in x:

@@ -15,18 +15,30 @@ from .model import Case
 from .plan import PathGroup, Plan, assemble
 
 
+def _units_by_class(case: Case) -> dict[str, list]:
+    """Inventory rows of each class, in inventory order (one pass over the units)."""
+    class_of = {t.id: t.class_ for t in case.types}
+    out: dict[str, list] = defaultdict(list)
+    for u in case.units:
+        out[class_of[u.type]].append(u)
+    return out
+
+
 def build_graphs(case: Case) -> dict[str, chain.StageGraph]:
     """The state graph of every class that holds units."""
-    return {c: chain.build_class_graph(case, c) for c in case.classes if case.units_of(c)}
+    held = _units_by_class(case)
+    return {c: chain.build_class_graph(case, c) for c in case.classes if held.get(c)}
 
 
 def starting_states(case: Case, graphs: dict[str, chain.StageGraph]) -> dict[str, dict[tuple[int, int], list[str]]]:
     """Per class, the unit names at each starting state (t, a), in inventory order."""
     out: dict[str, dict[tuple[int, int], list[str]]] = {}
+    held = _units_by_class(case)
     for cls, g in graphs.items():
         states: dict[tuple[int, int], list[str]] = defaultdict(list)
-        for u in case.units_of(cls):
-            states[(g.type_index(u.type), u.age)].extend(u.names())
+        index = {tid: j for j, tid in enumerate(g.types)}
+        for u in held.get(cls, ()):
+            states[(index[u.type], u.age)].extend(u.names())
         out[cls] = dict(states)
     return out
 

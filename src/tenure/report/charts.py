@@ -31,6 +31,7 @@ from typing import Iterable, Sequence
 import matplotlib
 import numpy as np
 from matplotlib.backends.backend_svg import FigureCanvasSVG
+from matplotlib.colors import BoundaryNorm, Normalize
 from matplotlib.figure import Figure
 from matplotlib.ticker import FuncFormatter, MaxNLocator
 
@@ -123,9 +124,28 @@ def short_money(x: float, scale: MoneyScale) -> str:
 # ---------------------------------------------------------------------------
 # SVG plumbing
 # ---------------------------------------------------------------------------
-def _figure(width_in: float, height_in: float) -> Figure:
-    fig = Figure(figsize=(width_in, height_in), layout="constrained")
+@dataclass(frozen=True)
+class Frame:
+    """Fixed margins and gaps of a figure [inches] (a fixed layout is several times faster than an automatic one)."""
+
+    left: float = 1.05
+    right: float = 0.3
+    bottom: float = 0.6
+    top: float = 0.4
+    rows: int = 1
+    cols: int = 1
+    hgap: float = 0.0
+    wgap: float = 0.0
+
+
+def _figure(width_in: float, height_in: float, frame: Frame) -> Figure:
+    fig = Figure(figsize=(width_in, height_in))
     FigureCanvasSVG(fig)
+    f = frame
+    ax_h = max(0.1, (height_in - f.top - f.bottom - f.hgap * (f.rows - 1)) / f.rows)
+    ax_w = max(0.1, (width_in - f.left - f.right - f.wgap * (f.cols - 1)) / f.cols)
+    fig.subplots_adjust(left=f.left / width_in, right=1 - f.right / width_in, bottom=f.bottom / height_in,
+                        top=1 - f.top / height_in, hspace=f.hgap / ax_h, wspace=f.wgap / ax_w)
     return fig
 
 
@@ -135,6 +155,7 @@ def to_svg(fig: Figure, chart_id: str, label: str) -> str:
     fig.savefig(buf, format="svg", metadata={"Date": None, "Creator": None})
     svg = buf.getvalue()
     svg = svg[svg.index("<svg"):]
+    svg = re.sub(r"\s*<metadata>.*?</metadata>", "", svg, flags=re.S)
     svg = re.sub(r'id="([^"]+)"', lambda m: f'id="{chart_id}-{m.group(1)}"', svg)
     svg = re.sub(r"url\(#([^)]+)\)", lambda m: f"url(#{chart_id}-{m.group(1)})", svg)
     svg = re.sub(r'href="#([^"]+)"', lambda m: f'href="#{chart_id}-{m.group(1)}"', svg)
@@ -149,9 +170,9 @@ def to_svg(fig: Figure, chart_id: str, label: str) -> str:
     return head + svg[head_end:]
 
 
-def _render(draw, chart_id: str, label: str, width_in: float, height_in: float) -> str:
+def _render(draw, chart_id: str, label: str, width_in: float, height_in: float, frame: Frame = Frame()) -> str:
     with matplotlib.rc_context(_RC):
-        fig = _figure(width_in, height_in)
+        fig = _figure(width_in, height_in, frame)
         draw(fig)
         return to_svg(fig, chart_id, label)
 
@@ -165,7 +186,7 @@ def message_svg(chart_id: str, title: str, message: str, width_in: float = 10.0,
         ax.set_title(title, loc="left")
         ax.text(0.0, 0.45, message, transform=ax.transAxes, ha="left", va="center", color="#444444", wrap=True)
 
-    return _render(draw, chart_id, f"{title}: {message}", width_in, height_in)
+    return _render(draw, chart_id, f"{title}: {message}", width_in, height_in, Frame(0.2, 0.2, 0.1, 0.4))
 
 
 # ---------------------------------------------------------------------------
@@ -265,10 +286,10 @@ def capital_chart(plan, case: Case) -> str:
         ax.set_ylim(bottom=min(0.0, float(np.min(spend)) * 1.1))
         ax.set_title("Capital per year" + (" against the cap" if np.isfinite(caps).any() else " (no cap)"),
                      loc="left")
-        ax.legend(loc="upper left", bbox_to_anchor=(0.0, -0.16), ncol=3)
+        fig.legend(loc="lower left", bbox_to_anchor=(1.05 / 10.0, 0.01), ncol=3)
 
     return _render(draw, cid, "Bar chart of capital per year" + (" with the cap" if np.isfinite(caps).any() else ""),
-                   10.0, 4.6)
+                   10.0, 4.6, Frame(bottom=1.0))
 
 
 def age_heatmap(plan, case: Case) -> str:
@@ -284,7 +305,11 @@ def age_heatmap(plan, case: Case) -> str:
         types = case.types_of(c)
         held = {t for u, row in zip(plan.units, uy) if u.class_ == c for t, _ in row} | \
             {u.start_type for u in plan.units if u.class_ == c}
-        max_ages[c] = sorted({(case.type(t).max_age, t) for t in held}, reverse=True)
+        by_age: dict[int, list[str]] = {}
+        for t in types:
+            if t.id in held:
+                by_age.setdefault(t.max_age, []).append(t.id)
+        max_ages[c] = sorted(by_age.items(), reverse=True)
         top = max([t.max_age for t in types] + [a for u, row in zip(plan.units, uy) if u.class_ == c
                                                for _, a in row])
         g = np.zeros((top + 1, s.horizon), dtype=int)
@@ -294,39 +319,51 @@ def age_heatmap(plan, case: Case) -> str:
                     g[a, k] += 1
         grids[c] = g
     vmax = max(int(g.max()) for g in grids.values()) or 1
-    heights = [max(1.6, 0.16 * g.shape[0] + 0.7) for g in grids.values()]
+    heights = [max(1.7, 0.15 * g.shape[0] + 0.8) for g in grids.values()]
     years = list(s.years)
 
     def draw(fig: Figure):
         axes = fig.subplots(len(classes), 1, sharex=True, squeeze=False, height_ratios=heights)[:, 0]
-        cmap = matplotlib.colormaps[HEATMAP].copy()
-        cmap.set_bad("white")
+        fig.subplots_adjust(hspace=0.3 / (sum(heights) / len(heights)))
+        if vmax <= 12:   # few distinct counts: one colour per count
+            cmap = matplotlib.colormaps[HEATMAP].resampled(vmax)
+            norm = BoundaryNorm(np.arange(0.5, vmax + 1.0), cmap.N)
+        else:
+            cmap = matplotlib.colormaps[HEATMAP]
+            norm = Normalize(0.5, vmax + 0.5)
+        cmap = cmap.with_extremes(bad="white")
         im = None
         for ax, c in zip(axes, classes):
             g = grids[c]
             data = np.ma.masked_equal(g, 0)
-            im = ax.imshow(data, cmap=cmap, vmin=0.5, vmax=vmax + 0.5, origin="lower", aspect="auto",
+            im = ax.imshow(data, cmap=cmap, norm=norm, origin="lower", aspect="auto",
                            extent=(years[0] - 0.5, years[-1] + 0.5, -0.5, g.shape[0] - 0.5),
                            interpolation="nearest")
             ax.grid(False)
-            for j, (ma, t) in enumerate(max_ages[c]):
+            for j, (ma, tids) in enumerate(max_ages[c]):
                 ax.axhline(ma - 0.5, color=VERMILLION, linewidth=1.4, linestyle=LINESTYLES[j % len(LINESTYLES)])
-                ax.annotate(f"max age {ma} ({t})", (1.0, ma - 0.5), xycoords=("axes fraction", "data"),
-                            xytext=(4, 0), textcoords="offset points", va="center", ha="left", fontsize=8,
-                            color=VERMILLION)
+                ax.text(years[0] - 0.3, ma - 0.5, f"max age {ma}: {', '.join(tids)}", va="bottom", ha="left",
+                        fontsize=8, color=VERMILLION,
+                        bbox={"facecolor": "white", "edgecolor": "none", "pad": 0.8, "alpha": 0.85})
             ax.set_ylabel(f"{c}\nage (years)")
             ax.yaxis.set_major_locator(MaxNLocator(integer=True, nbins=6))
-            ax.set_ylim(-0.5, g.shape[0] - 0.5)
+            ax.set_ylim(-0.5, max(g.shape[0] - 0.5, max(ma for ma, _ in max_ages[c]) + 1.6 if max_ages[c] else 0))
         axes[0].set_title("Fleet age by year: number of units of each age (0 = bought that year)", loc="left")
         _years_axis(axes[-1], years)
         if im is not None:
-            cb = fig.colorbar(im, ax=list(axes), location="right", shrink=0.9, pad=0.16, aspect=30)
-            cb.set_label("units")
-            cb.locator = MaxNLocator(integer=True)
-            cb.update_ticks()
+            x1 = axes[0].get_position().x1
+            y0, y1 = axes[-1].get_position().y0, axes[0].get_position().y1
+            cax = fig.add_axes((x1 + 0.25 / 10.0, y0 + 0.1 * (y1 - y0), 0.18 / 10.0, 0.8 * (y1 - y0)))
+            cb = fig.colorbar(im, cax=cax)
+            cb.set_label("units (count)")
+            if vmax <= 12:
+                cb.set_ticks(np.arange(1, vmax + 1))
+            else:
+                cb.locator = MaxNLocator(integer=True)
+                cb.update_ticks()
 
     return _render(draw, cid, "Heat map of units by age and year for each class", 10.0,
-                   sum(heights) + 0.9)
+                   sum(heights) + 0.3 * (len(heights) - 1) + 1.0, Frame(right=1.15, bottom=0.6))
 
 
 def types_chart(plan, case: Case) -> str:
@@ -359,9 +396,11 @@ def types_chart(plan, case: Case) -> str:
         ax.set_xlim(xs[0], xs[-1])
         ax.set_ylim(0, max(1.0, float(bottom.max())) * 1.05)
         ax.set_title("Units in service by type, each year", loc="left")
-        ax.legend(loc="upper left", bbox_to_anchor=(1.01, 1.0), ncol=1, title="type (class)")
+        h, lab = ax.get_legend_handles_labels()
+        ax.legend(h[::-1], lab[::-1], loc="upper left", bbox_to_anchor=(1.01, 1.0), ncol=1, title="type (class)")
 
-    return _render(draw, cid, "Stacked area chart of units in service by type and year", 10.0, 4.0)
+    return _render(draw, cid, "Stacked area chart of units in service by type and year", 10.0, 4.0,
+                   Frame(left=0.85, right=2.9))
 
 
 def buyable_types(case: Case) -> list[tuple[object, int]]:
@@ -400,9 +439,13 @@ def eac_chart(case: Case, life_tables: Sequence) -> str:
                     label="O&M")
             ax.plot(lt.years, lt.eac_total, color=BLACK, linewidth=2.0, marker="o", markersize=3.5, label="total")
             ax.axvline(lt.economic_life, color=VERMILLION, linewidth=1.2)
-            ax.annotate(f"economic life {lt.economic_life} y\nleast EAC {short_money(lt.min_eac, sc)}/y",
-                        (lt.economic_life, lt.min_eac), xytext=(6, 14), textcoords="offset points", fontsize=8,
-                        color=VERMILLION)
+            right_half = lt.economic_life > (lt.years[0] + lt.years[-1]) / 2
+            ax.annotate(f"economic life {lt.economic_life} year{'s' if lt.economic_life != 1 else ''}\n"
+                        f"least EAC {short_money(lt.min_eac, sc)} a year",
+                        (lt.economic_life, 0.0), xycoords=("data", "axes fraction"),
+                        xytext=(-5 if right_half else 5, 6), textcoords="offset points", fontsize=8,
+                        ha="right" if right_half else "left", va="bottom", color=VERMILLION,
+                        bbox={"facecolor": "white", "edgecolor": "none", "pad": 1.0, "alpha": 0.85})
             t = case.type(lt.type)
             ax.set_title(f"{lt.type} ({t.class_}), bought {lt.year}", loc="left", fontsize=10)
             ax.set_xlabel("years kept before resale, N (years)")
@@ -414,10 +457,11 @@ def eac_chart(case: Case, life_tables: Sequence) -> str:
         for j in range(n, rows * cols):
             axes[j // cols][j % cols].set_axis_off()
         h, lab = axes[0][0].get_legend_handles_labels()
-        fig.legend(h, lab, loc="outside lower center", ncol=4)
+        fig.legend(h, lab, loc="lower center", bbox_to_anchor=(0.5, 0.005), ncol=4)
 
     return _render(draw, cid, "Line charts of equivalent annual cost by holding period for each buyable type",
-                   10.0, 3.0 * rows + 0.7)
+                   10.0, 2.6 * rows + 0.95 * (rows - 1) + 1.1,
+                   Frame(left=1.0, right=0.3, bottom=0.8, top=0.35, rows=rows, cols=cols, hgap=0.95, wgap=1.2))
 
 
 def class_cost_chart(plan, case: Case) -> str:
@@ -443,7 +487,9 @@ def class_cost_chart(plan, case: Case) -> str:
         ax.set_xlim(left=min(0.0, min(vals) * 1.15), right=max(0.0, max(vals)) * 1.15 or 1.0)
         ax.set_title("Present cost by class", loc="left")
 
-    return _render(draw, cid, "Bar chart of present cost by class", 10.0, 1.2 + 0.45 * len(items))
+    left = 0.3 + 0.075 * max(len(c) for c, _ in items)
+    return _render(draw, cid, "Bar chart of present cost by class", 10.0, 1.2 + 0.45 * len(items),
+                   Frame(left=left, right=0.4, bottom=0.6, top=0.35))
 
 
 def cap_cost_chart(plan, case: Case) -> str | None:
@@ -466,7 +512,8 @@ def cap_cost_chart(plan, case: Case) -> str | None:
         pos = v > 1e-9
         ax.bar(x[pos], v[pos], width=0.8, color=PURPLE, label="binding cap: money would lower the present cost")
         if (~pos).any():
-            ax.bar(x[~pos], v[~pos], width=0.8, color=LIGHT, edgecolor=GREY, label="cap not binding")
+            ax.plot(x[~pos], np.zeros((~pos).sum()), linestyle="none", marker="o", markersize=4,
+                    markerfacecolor="white", markeredgecolor=GREY, clip_on=False, label="cap not binding (0)")
         for xx, vv in zip(x[pos], v[pos]):
             ax.annotate(f"{vv:.2f}", (xx, vv), xytext=(0, 2), textcoords="offset points", ha="center",
                         va="bottom", fontsize=7.5)
@@ -475,9 +522,9 @@ def cap_cost_chart(plan, case: Case) -> str | None:
         ax.set_xlim(years[0] - 0.8, years[-1] + 0.8)
         ax.set_ylim(bottom=0.0, top=max(0.05, float(v.max()) * 1.2))
         ax.set_title("Cost of each year's cap (shadow price)", loc="left")
-        ax.legend(loc="upper left", bbox_to_anchor=(0.0, -0.18), ncol=2)
+        fig.legend(loc="lower left", bbox_to_anchor=(1.05 / 10.0, 0.01), ncol=2)
 
-    return _render(draw, cid, "Bar chart of the shadow price of each year's cap", 10.0, 3.6)
+    return _render(draw, cid, "Bar chart of the shadow price of each year's cap", 10.0, 3.8, Frame(bottom=1.0))
 
 
 # ---------------------------------------------------------------------------
@@ -511,7 +558,7 @@ def compare_cost_chart(scenarios: Sequence[dict], currency: str) -> str:
         for b, v, d in zip(bars, vals, diffs):
             txt = short_money(v, sc)
             if d is not None:
-                txt += f"  ({'+' if d >= 0 else '−'}{short_money(abs(d), sc)})"
+                txt += "  (reference)" if abs(d) < 0.005 else f"  ({'+' if d > 0 else '−'}{short_money(abs(d), sc)})"
             ax.annotate(txt, (v, b.get_y() + b.get_height() / 2), xytext=(4, 0), textcoords="offset points",
                         va="center", ha="left", fontsize=9)
         ax.xaxis.set_major_formatter(sc.formatter())
@@ -520,7 +567,9 @@ def compare_cost_chart(scenarios: Sequence[dict], currency: str) -> str:
         ax.set_xlim(left=min(0.0, min(vals)), right=max(vals) * 1.3 or 1.0)
         ax.set_title("Present cost by scenario (difference in brackets)", loc="left")
 
-    return _render(draw, cid, "Bar chart of present cost by scenario", 10.0, 1.3 + 0.45 * len(rows))
+    left = 0.3 + 0.075 * max(len(r[0]) for r in rows)
+    return _render(draw, cid, "Bar chart of present cost by scenario", 10.0, 1.3 + 0.45 * len(rows),
+                   Frame(left=left, right=0.4, bottom=0.6, top=0.35))
 
 
 def compare_capital_chart(scenarios: Sequence[dict], currency: str, cap_by_year: dict | None = None) -> str:
@@ -561,8 +610,10 @@ def compare_capital_chart(scenarios: Sequence[dict], currency: str, cap_by_year:
         ax.set_ylabel(sc.label("Capital per year", currency))
         ax.set_xlabel("calendar year")
         ax.xaxis.set_major_locator(MaxNLocator(integer=True, nbins=16))
+        xs_all = [p[0] for _, pts in series for p in pts] + [c[0] for c in caps]
+        ax.set_xlim(min(xs_all) - 0.8, max(xs_all) + 0.8)
         ax.set_ylim(bottom=0.0)
         ax.set_title("Capital per year, scenarios overlaid", loc="left")
         ax.legend(loc="upper left", bbox_to_anchor=(1.01, 1.0), title="scenario")
 
-    return _render(draw, cid, "Line chart of capital per year for each scenario", 10.0, 4.2)
+    return _render(draw, cid, "Line chart of capital per year for each scenario", 10.0, 4.2, Frame(right=2.2))

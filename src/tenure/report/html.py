@@ -13,6 +13,7 @@ vermillion ``#D55E00`` for warnings), the same palette as the charts.
 from __future__ import annotations
 
 import datetime as _dt
+import math
 from collections import Counter
 from html import escape
 from typing import Any, Iterable, Sequence
@@ -47,6 +48,8 @@ table { border-collapse:collapse; margin:8px 0 14px; font-size:14px; font-varian
 th, td { padding:4px 10px; border-bottom:1px solid var(--rule); text-align:left; vertical-align:top; }
 th { background:var(--soft); font-weight:600; }
 td.num, th.num { text-align:right; }
+td:first-child { white-space:nowrap; }
+td.nw, span.nw { white-space:nowrap; }
 tr.best td { background:#e8f3fa; font-weight:600; }
 figure.chart { margin:18px 0 26px; }
 figure.chart figcaption { color:var(--muted); font-size:14px; max-width:900px; margin-top:2px; }
@@ -76,7 +79,7 @@ def money(x) -> str:
         v = float(x)
     except (TypeError, ValueError):
         return "—"
-    if v != v:
+    if not math.isfinite(v):
         return "—"
     return f"{v:,.0f}".replace("-", "−")
 
@@ -93,9 +96,10 @@ def e(x: Any) -> str:
 
 
 def table(head: Sequence[str], rows: Iterable[Sequence[Any]], num: Iterable[int] = (), cls_rows=None,
-          raw: bool = False) -> str:
-    """An HTML table; columns in ``num`` are right-aligned; cells escaped unless ``raw``."""
+          raw: bool = False, nowrap: Iterable[int] = ()) -> str:
+    """An HTML table; columns in ``num`` are right-aligned, in ``nowrap`` kept on one line; cells escaped unless ``raw``."""
     num = set(num)
+    nw = set(nowrap)
     right = ' class="num"'
     out = ["<table><thead><tr>"]
     out += [f"<th{right if j in num else ''}>{e(h)}</th>" for j, h in enumerate(head)]
@@ -105,7 +109,8 @@ def table(head: Sequence[str], rows: Iterable[Sequence[Any]], num: Iterable[int]
         out.append(f'<tr class="{cls}">' if cls else "<tr>")
         for j, c in enumerate(row):
             cell = str(c) if raw else e(c)
-            out.append(f"<td{right if j in num else ''}>{cell}</td>")
+            attr = right if j in num else (' class="nw"' if j in nw else "")
+            out.append(f"<td{attr}>{cell}</td>")
         out.append("</tr>")
     out.append("</tbody></table>")
     return "".join(out)
@@ -190,7 +195,8 @@ def assumptions_html(case: Case) -> str:
                "“price change” is the change per later purchase year. Max age: a unit is replaced "
                "when it reaches it.</p>")
     out.append(table(("type", "class", f"price ({s.start_year})", "price change / year", "can be bought",
-                      "max age (years)", "O&M per year", "market value", "units held"), trow, num=(2, 3, 5, 8)))
+                      "max age (years)", "O&M per year", "market value", "units held"), trow, num=(2, 3, 5, 8),
+                     nowrap=(0, 1)))
     inv = []
     for t in case.types:
         ages = Counter()
@@ -313,28 +319,50 @@ def summary_html(plan, case: Case) -> str:
     return "\n".join(out)
 
 
+def _ages(ages: list[int]) -> str:
+    """'age 4', 'ages 1–13, 16'."""
+    a = sorted(set(ages))
+    runs: list[list[int]] = []
+    for x in a:
+        if runs and x == runs[-1][-1] + 1:
+            runs[-1].append(x)
+        else:
+            runs.append([x])
+    text = ", ".join(f"{r[0]}–{r[-1]}" if len(r) > 2 else ", ".join(map(str, r)) for r in runs)
+    return ("age " if len(a) == 1 else "ages ") + text
+
+
 def first_years_html(plan, case: Case, n_years: int = 5) -> str:
+    """Replacements of the first ``n_years``, one row per year, class, sold type and bought type."""
     s = case.study
     last = s.start_year + min(n_years, s.horizon) - 1
-    groups: dict[tuple, list[str]] = {}
+    groups: dict[tuple, dict] = {}
     for u in plan.units:
         for ev in u.events:
             if ev.year <= last:
-                key = (ev.year, u.class_, ev.from_type, ev.from_age, ev.type, round(ev.price, 2),
-                       round(ev.market_value, 2))
-                groups.setdefault(key, []).append(u.unit)
+                g = groups.setdefault((ev.year, u.class_, ev.from_type, ev.type),
+                                      {"units": [], "ages": [], "price": 0.0, "value": 0.0})
+                g["units"].append(u.unit)
+                g["ages"].append(ev.from_age)
+                g["price"] += ev.price
+                g["value"] += ev.market_value
+    order = {t.id: j for j, t in enumerate(case.types)}
+    classes = {c: j for j, c in enumerate(case.classes)}
     rows = []
-    for key in sorted(groups):
-        y, cls, ft, fa, tt, p, mv = key
-        names = groups[key]
-        rows.append((y, cls, len(names), f"{ft}, age {fa}", tt, money(p), money(mv),
-                     ", ".join(names[:6]) + (" …" if len(names) > 6 else "")))
+    for key in sorted(groups, key=lambda k: (k[0], classes.get(k[1], 99), order.get(k[2], 99), order.get(k[3], 99))):
+        y, cls, ft, tt = key
+        g = groups[key]
+        names = g["units"]
+        shown = ", ".join(f'<span class="nw">{e(n)}</span>' for n in names[:4])
+        rows.append((y, e(cls), len(names), e(f"{ft}, {_ages(g['ages'])}"), e(tt), money(g["price"]),
+                     money(g["value"]), shown + (f" and {len(names) - 4} more" if len(names) > 4 else "")))
     if not rows:
         return f"<p>No replacement is planned in {s.start_year}–{last}.</p>"
-    return (f'<p class="money-note">Price and market value are per unit, in constant {s.start_year} currency. '
-            "The full schedule is in plan.xlsx (sheet “units”).</p>"
-            + table(("year", "class", "units", "sell (type, age)", "buy type", "price each", "market value each",
-                     "units"), rows, num=(0, 2, 5, 6)))
+    return (f'<p class="money-note">Years {s.start_year}–{last}. Purchase prices and market values received are '
+            f"totals of the row, undiscounted, in constant {s.start_year} currency. The full schedule is in "
+            "plan.xlsx (sheet “units”).</p>"
+            + table(("year", "class", "units", "sold (type, age)", "bought type", "purchase prices",
+                     "market value received", "units"), rows, num=(0, 2, 5, 6), nowrap=(1, 4), raw=True))
 
 
 def years_table_html(plan, case: Case) -> str:
@@ -410,10 +438,15 @@ def plan_report(plan, case: Case, life_tables) -> str:
             f'<p class="sub">Renewal plan {s.start_year}–{last} · {case.unit_count} units · '
             f"{e(plan.method)} · status {e(plan.status)}</p>"
             f'<p class="sub">All money is in constant {s.start_year} currency (real terms).</p></header>']
+    body.append(f'<p class="read">This report shows a least-cost plan for when to replace each unit of the fleet '
+                f"and with which type, over {s.horizon} years. Start with the summary and the replacements of the first "
+                "years; the charts show the money per year, the age of the fleet and the cost of owning each type; the "
+                "assumptions the plan rests on are at the end. The spreadsheet plan.xlsx beside this file holds every "
+                "figure.</p>")
     body.append('<section id="summary"><h2>Summary</h2>')
     body.append(summary_html(plan, case))
     body.append("</section>")
-    body.append(f'<section id="first-years"><h2>Replacements in the first years</h2>')
+    body.append(f'<section id="first-years"><h2>Replacements in the first five years</h2>')
     body.append(first_years_html(plan, case))
     body.append("</section>")
     body.append('<section id="charts"><h2>Charts</h2>')
@@ -462,6 +495,15 @@ def _as_list(x) -> list:
     return [x]
 
 
+def _dget(d, *keys):
+    """Nested dict look-up that returns None on any missing level."""
+    for k in keys:
+        if not isinstance(d, dict) or k not in d:
+            return None
+        d = d[k]
+    return d
+
+
 def regret_html(regret: dict) -> str:
     if not isinstance(regret, dict):
         return "<p>No regret table was computed.</p>"
@@ -470,22 +512,108 @@ def regret_html(regret: dict) -> str:
     if not matrix:
         return "<p>No regret table was computed.</p>"
     n = max(len(r) for r in matrix)
-    col_ids = ids if len(ids) == n else ids[:n] + [f"#{j + 1}" for j in range(len(ids), n)]
+    col_ids = ids[:n] + [f"#{j + 1}" for j in range(len(ids), n)]
     best = regret.get("least_max_regret")
-    rows = []
+    max_given = regret.get("max_regret") if isinstance(regret.get("max_regret"), dict) else None
+    rows, broke = [], False
     for i, r in enumerate(matrix):
         rid = ids[i] if i < len(ids) else f"#{i + 1}"
+        cells = []
+        for j, x in enumerate(r):
+            if charts._num(x) is not None:
+                cells.append(money(x))
+                continue
+            why = _dget(regret, "breaks", rid, col_ids[j])
+            if why:
+                broke = True
+                reasons = "; ".join(str(w) for w in _as_list(why)[:3])
+                cells.append(f'<span title="{e(reasons)}">breaks a rule</span>')
+            else:
+                cells.append("—")
+        cells += ["—"] * (n - len(r))
         nums = [v for v in (charts._num(x) for x in r) if v is not None]
-        rows.append([rid] + [money(x) for x in r] + [""] * (n - len(r)) + [money(max(nums)) if nums else "—"])
-    out = ['<p class="read">Each row is a plan (the decisions of that scenario); each column a scenario that '
-           "might come true. A cell is the extra present cost of following the row's plan when the column's "
-           "scenario happens, over the best plan for that scenario (0 on the diagonal). The last column is the "
-           "worst case of each row; the highlighted row has the least worst case.</p>"]
-    out.append(table(["plan ↓ / scenario →"] + col_ids + ["largest regret"], rows, num=range(1, n + 2),
-                     cls_rows=lambda i, row: "best" if best is not None and str(row[0]) == str(best) else ""))
+        if max_given is not None and rid in max_given:
+            worst = money(max_given[rid]) if charts._num(max_given[rid]) is not None else "breaks a rule"
+        else:
+            worst = money(max(nums)) if nums else "—"
+        rows.append([e(rid)] + cells + [worst])
+    out = ['<p class="read">Each row is a plan (the schedule of that scenario); each column a scenario that '
+           "might come true. A cell is the extra present cost of carrying out the row's plan when the column's "
+           "scenario happens, over the best plan that can be carried out under it (0 on the diagonal when the "
+           "scenario's own plan is best). The last column is the worst case of each row; the highlighted row is "
+           "the plan of least worst case."
+           + (" “breaks a rule”: under that scenario the plan would break a cap, a purchase limit or a max age, "
+              "or buy a type that cannot be bought; hover for the reason." if broke else "") + "</p>"]
+    out.append(table(["plan ↓ / scenario →"] + col_ids + ["largest regret"], rows, num=range(1, n + 2), raw=True,
+                     cls_rows=lambda i, row: "best" if best is not None and row[0] == e(best) else ""))
     if best is not None:
-        out.append(f"<p>Least largest regret: <strong>{e(best)}</strong>.</p>")
+        out.append(f"<p>Plan of least largest regret: <strong>{e(best)}</strong>."
+                   + (f" Rule: {e(regret['rule'])}." if regret.get("rule") else "") + "</p>")
     return "\n".join(out)
+
+
+def actions_text(actions) -> str:
+    """``{unit: "keep" | "replace:<type>"}`` as 'replace 9: rt-diesel 7 (RT-L14#1, …); keep 69'."""
+    if not isinstance(actions, dict) or not actions:
+        return _cell(actions)
+    keep = 0
+    by_type: dict[str, list[str]] = {}
+    other: list[str] = []
+    for unit, act in actions.items():
+        act = str(act)
+        if act == "keep":
+            keep += 1
+        elif act.startswith("replace:"):
+            by_type.setdefault(act.split(":", 1)[1], []).append(str(unit))
+        else:
+            other.append(f"{unit}: {act}")
+    parts = []
+    n_rep = sum(len(v) for v in by_type.values())
+    if n_rep:
+        mix = ", ".join(f"{t} {len(us)} ({', '.join(us[:3])}{', …' if len(us) > 3 else ''})"
+                        for t, us in by_type.items())
+        parts.append(f"replace {n_rep}: {mix}")
+    parts.append(f"keep {keep}")
+    parts += other
+    return "; ".join(parts)
+
+
+def safe_now_html(safe: list) -> str:
+    if not safe:
+        return "<p>No first-year action is common to every scenario's plan.</p>"
+    grouped: dict[str, list[str]] = {}
+    loose: list[str] = []
+    for x in safe:
+        if isinstance(x, dict) and "unit" in x and "action" in x:
+            grouped.setdefault(str(x["action"]), []).append(str(x["unit"]))
+        else:
+            loose.append(_cell(x))
+    rows = []
+    for act, units in sorted(grouped.items(), key=lambda kv: (kv[0] == "keep", kv[0])):
+        label = f"replace with {act.split(':', 1)[1]}" if act.startswith("replace:") else act
+        rows.append((label, len(units), ", ".join(units[:12]) + (f" and {len(units) - 12} more" if len(units) > 12
+                                                                 else "")))
+    out = ["<p>First-year actions that every scenario's plan takes (the same whichever scenario comes true):</p>"]
+    if rows:
+        out.append(table(("action", "units", "which"), rows, num=(1,)))
+    if loose:
+        out.append("<ul>" + "".join(f"<li>{e(x)}</li>" for x in loose) + "</ul>")
+    return "\n".join(out)
+
+
+def differ_html(differ: list, ids: list[str]) -> str:
+    rows = []
+    for d in differ:
+        if not isinstance(d, dict):
+            continue
+        acts = d.get("actions") if isinstance(d.get("actions"), dict) else {}
+        rows.append([d.get("unit", "—"), d.get("year", "—")] + [acts.get(i, "—") for i in ids])
+    if not rows:
+        return ""
+    extra = len(rows) - 40
+    return ("<h3>Decisions of the first two years that depend on the scenario</h3>"
+            + table(["unit", "year"] + ids, rows[:40], nowrap=range(len(ids) + 2))
+            + (f'<p class="money-note">… and {extra} more in compare.json.</p>' if extra > 0 else ""))
 
 
 def compare_report(cmp: dict, case: Case) -> str:
@@ -526,15 +654,13 @@ def compare_report(cmp: dict, case: Case) -> str:
     body.append(regret_html(cmp.get("regret")))
     body.append("</section>")
     body.append('<section id="decisions"><h2>Decisions for the first year</h2>')
-    safe = _as_list(cmp.get("safe_now"))
-    if safe:
-        body.append("<p>Actions that every scenario's plan takes in the first year (safe to start now):</p><ul>"
-                    + "".join(f"<li>{e(_cell(x))}</li>" for x in safe) + "</ul>")
-    else:
-        body.append("<p>No first-year action is common to every scenario.</p>")
-    fy = [(sc.get("id", f"#{j + 1}"), _cell(sc.get("first_year_actions"))) for j, sc in enumerate(scen)]
+    body.append(safe_now_html(_as_list(cmp.get("safe_now"))))
+    fy = [(sc.get("id", f"#{j + 1}"), actions_text(sc.get("first_year_actions"))) for j, sc in enumerate(scen)]
     if fy:
-        body.append("<h3>First-year actions of each scenario</h3>" + table(("scenario", "actions"), fy))
+        body.append(f"<h3>First-year ({s.start_year}) actions of each scenario's plan</h3>"
+                    + table(("scenario", "actions"), fy))
+    body.append(differ_html(_as_list(cmp.get("differ_early")), [str(sc.get("id", f"#{j + 1}"))
+                                                                 for j, sc in enumerate(scen)]))
     types = []
     for sc in scen:
         bbt = sc.get("buys_by_type")

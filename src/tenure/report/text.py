@@ -84,7 +84,7 @@ def life_text(lt: LifeTable, title: str = "") -> str:
     return "\n".join(out)
 
 
-def plan_summary(plan, case: Case, out_dir: str | None = None) -> str:
+def plan_summary(plan, case: Case, out_dir: str | None = None, written: list[str] | None = None) -> str:
     """The terminal summary of a plan: status, present cost, buys by class and type, capital by 5-year period."""
     s = case.study
     lines = [f"{s.title or 'plan'} — {plan.method}, status {plan.status}", rule()]
@@ -133,7 +133,8 @@ def plan_summary(plan, case: Case, out_dir: str | None = None) -> str:
                          + (" …" if len(plan.forcing_units) > 12 else ""))
     if out_dir:
         lines.append("")
-        lines.append(f"written to {out_dir}/: plan.json, units.csv, years.csv")
+        names = written or ["plan.json", "units.csv", "years.csv"]
+        lines.append(f"written to {out_dir}/: {', '.join(names)}")
     lines.append(CAUTION)
     return "\n".join(lines)
 

@@ -14,6 +14,7 @@ built in memory; :mod:`tenure.report.documents` writes it atomically.
 from __future__ import annotations
 
 import io
+import math
 from collections import Counter
 from typing import Any, Sequence
 
@@ -46,6 +47,7 @@ class _Sheet:
         self.ws = ws
         self.row = 0
         self.width: Counter = Counter()
+        self.heads: list[tuple[int, list[str]]] = []
 
     def put(self, values: Sequence[Any], fmt: dict[int, str] | None = None, font=None, fill=None) -> int:
         self.row += 1
@@ -61,10 +63,15 @@ class _Sheet:
             self.width[j] = max(self.width[j], shown)
         return self.row
 
-    def head(self, values: Sequence[str]) -> int:
+    def head(self, values: Sequence[str], wrap_at: int = 18) -> int:
+        """A header row; long headers wrap, so they widen a column to at most ``wrap_at`` characters."""
+        before = dict(self.width)
         r = self.put(values, font=HEAD_FONT, fill=HEAD_FILL)
-        for j in range(1, len(values) + 1):
+        for j, v in enumerate(values, start=1):
             self.ws.cell(row=r, column=j).alignment = Alignment(wrap_text=True, vertical="top")
+            longest = max((len(w) for w in str(v).split()), default=0)
+            self.width[j] = max(before.get(j, 0), longest + 1, min(wrap_at, len(str(v))))
+        self.heads.append((r, [str(v) for v in values]))
         return r
 
     def blank(self):
@@ -75,14 +82,14 @@ class _Sheet:
             self.ws.column_dimensions[get_column_letter(j)].width = max(min_w, min(max_w, w + 2))
         for j, w in (fixed or {}).items():
             self.ws.column_dimensions[get_column_letter(j)].width = w
+        for r, values in self.heads:   # wrapped headers: make the row tall enough
+            lines = 1
+            for j, v in enumerate(values, start=1):
+                w = self.ws.column_dimensions[get_column_letter(j)].width or 10
+                lines = max(lines, math.ceil(len(v) / max(1.0, w - 1)))
+            self.ws.row_dimensions[r].height = 15 * min(lines, 4)
         if freeze:
             self.ws.freeze_panes = freeze
-
-
-def _head_width(sh: _Sheet, head: Sequence[str], cap: int = 18):
-    """Headers wrap, so they count for at most ``cap`` characters of width."""
-    for j, h in enumerate(head, start=1):
-        sh.width[j] = max(sh.width[j] if sh.width[j] else 0, min(cap, len(h)))
 
 
 # ---------------------------------------------------------------------------
@@ -147,7 +154,6 @@ def years_sheet(ws, plan, case: Case):
     tot = [_r(sum(_r(getattr(y, f)) for y in plan.years)) for f in ("capital", "om", "salvage")]
     sh.put(["total", sum(y.buys for y in plan.years), tot[0], None, None, tot[1], tot[2], _r(tot[0] - tot[2]), None]
            + [sum(y.buys_by_type.get(t, 0) for y in plan.years) for t in bought], fmt=fmt, font=TOTAL_FONT)
-    _head_width(sh, head)
     sh.finish()
 
 
@@ -167,7 +173,6 @@ def units_sheet(ws, plan, case: Case):
         for ev in u.events:
             sh.put(head + [ev.year, ev.action, ev.from_type, ev.from_age, ev.type, _r(ev.price),
                            _r(ev.market_value), _r(ev.defer_cost), _r(ev.advance_cost), _r(u.present_cost)], fmt=fmt)
-    _head_width(sh, UNIT_HEAD)
     sh.finish(freeze="B2")
 
 
