@@ -51,7 +51,7 @@ import numpy as np
 from . import chain
 from .model import Case
 from .plan import PathGroup, Plan, assemble
-from .solve import build_graphs, solve_uncapped, starting_states
+from .uncapped import build_graphs, solve_uncapped, starting_states
 
 INF = math.inf
 SOLVERS = ("highs", "cbc")
@@ -671,8 +671,8 @@ def solve_capped(case: Case, solver: str = "highs", time_limit: float = 120.0, g
             print(f"  [{time.perf_counter() - t0:6.1f} s] {msg}", file=sys.stderr, flush=True)
 
     graphs = build_graphs(case)
-    free = solve_uncapped(case, graphs)
     sols = {c: chain.backward(g) for c, g in graphs.items()}
+    free = solve_uncapped(case, graphs, sols)
     uncapped_cost = free.present_cost
     if _fits(free, case):
         log("the uncapped plan fits every cap and limit: it is optimal")

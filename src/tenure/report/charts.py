@@ -515,7 +515,8 @@ def cap_cost_chart(plan, case: Case) -> str | None:
             ax.plot(x[~pos], np.zeros((~pos).sum()), linestyle="none", marker="o", markersize=4,
                     markerfacecolor="white", markeredgecolor=GREY, clip_on=False, label="cap not binding (0)")
         for xx, vv in zip(x[pos], v[pos]):
-            ax.annotate(f"{vv:.2f}", (xx, vv), xytext=(0, 2), textcoords="offset points", ha="center",
+            ax.annotate(f"{vv:.2f}" if vv >= 0.01 else f"{vv:.3f}", (xx, vv), xytext=(0, 2),
+                        textcoords="offset points", ha="center",
                         va="bottom", fontsize=7.5)
         ax.set_ylabel("present-cost saving per 1 of\nextra cap (money per money)")
         _years_axis(ax, years)

@@ -97,7 +97,10 @@ def e(x: Any) -> str:
 
 def table(head: Sequence[str], rows: Iterable[Sequence[Any]], num: Iterable[int] = (), cls_rows=None,
           raw: bool = False, nowrap: Iterable[int] = ()) -> str:
-    """An HTML table; columns in ``num`` are right-aligned, in ``nowrap`` kept on one line; cells escaped unless ``raw``."""
+    """An HTML table.
+
+    Columns in ``num`` are right-aligned, those in ``nowrap`` kept on one line; cells are escaped unless ``raw``.
+    """
     num = set(num)
     nw = set(nowrap)
     right = ' class="num"'
@@ -232,7 +235,8 @@ def assumptions_html(case: Case) -> str:
     if case.scenarios:
         out.append("<h3>Scenarios defined in the case</h3>")
         out.append(table(("scenario", "note", "changes"),
-                         [(sc.id, sc.note, "; ".join(f"{k} = {v}" for k, v in sc.set.items())) for sc in case.scenarios]))
+                         [(sc.id, sc.note, "; ".join(f"{k} = {v}" for k, v in sc.set.items()))
+                          for sc in case.scenarios]))
     return "\n".join(out)
 
 
@@ -292,7 +296,8 @@ def summary_html(plan, case: Case) -> str:
     mix = ", ".join(f"{t} {n}" for t, n in sorted(buys.items(), key=lambda kv: -kv[1]))
     boxes.append(fig_box("Replacements", f"{total_buys}", mix or "no unit is replaced"))
     boxes.append(fig_box("Capital, all years", money(sum(y.capital for y in plan.years)),
-                         f"purchase prices, undiscounted; market value received {money(sum(y.salvage for y in plan.years))}"))
+                         "purchase prices, undiscounted; market value received "
+                         + money(sum(y.salvage for y in plan.years))))
     if capped_years:
         boxes.append(fig_box("Years at the cap", f"{len(tight)} of {len(capped_years)}",
                              ", ".join(str(y.year) for y in tight[:8]) + (" …" if len(tight) > 8 else "")))
@@ -313,7 +318,8 @@ def summary_html(plan, case: Case) -> str:
         out.append("</div>")
     elif plan.status == "feasible":
         out.append(f'<div class="notice"><strong>Not proven optimal.</strong> The solver stopped with a plan whose '
-                   f"present cost is at most {pct(plan.gap)} above the least possible ({money(plan.lower_bound)}).</div>")
+                   f"present cost is at most {pct(plan.gap)} above the least possible "
+                   f"({money(plan.lower_bound)}).</div>")
     if plan.message:
         out.append(f'<p class="money-note">Solver note: {e(plan.message)}</p>')
     return "\n".join(out)
@@ -438,10 +444,12 @@ def plan_report(plan, case: Case, life_tables) -> str:
             f'<p class="sub">Renewal plan {s.start_year}–{last} · {case.unit_count} units · '
             f"{e(plan.method)} · status {e(plan.status)}</p>"
             f'<p class="sub">All money is in constant {s.start_year} currency (real terms).</p></header>']
-    body.append(f'<p class="read">This report shows a least-cost plan for when to replace each unit of the fleet '
-                f"and with which type, over {s.horizon} years. Start with the summary and the replacements of the first "
-                "years; the charts show the money per year, the age of the fleet and the cost of owning each type; the "
-                "assumptions the plan rests on are at the end. The spreadsheet plan.xlsx beside this file holds every "
+    what = "a least-cost plan" if plan.status == "optimal" else "a plan" if plan.success else "an attempted plan"
+    body.append(f'<p class="read">This report shows {what} for when to replace each unit of the fleet '
+                f"and with which type, over {s.horizon} years. Start with the summary and the replacements of the "
+                "first years; the charts show the money per year, the age of the fleet and the cost of owning each "
+                "type; the assumptions the plan rests on are at the end. The spreadsheet plan.xlsx beside this file "
+                "holds every "
                 "figure.</p>")
     body.append('<section id="summary"><h2>Summary</h2>')
     body.append(summary_html(plan, case))
