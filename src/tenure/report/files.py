@@ -14,12 +14,20 @@ from pathlib import Path
 from typing import Any
 
 
+def _umask() -> int:
+    old = os.umask(0)
+    os.umask(old)
+    return old
+
+
 def write_bytes(path: Path | str, data: bytes) -> Path:
     """Write ``data`` to ``path`` atomically; returns the path."""
     path = Path(path)
     path.parent.mkdir(parents=True, exist_ok=True)
     fd, tmp = tempfile.mkstemp(prefix=f".{path.name}.", suffix=".part", dir=path.parent)
     try:
+        # mkstemp makes the file private; give it the permissions an ordinary new file would get
+        os.chmod(tmp, 0o666 & ~_umask())
         with os.fdopen(fd, "wb") as fh:
             fh.write(data)
             fh.flush()
