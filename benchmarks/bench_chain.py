@@ -223,6 +223,15 @@ def main(argv=None) -> int:
     t_each = median_time(bf_each, 1 if q else 3, "nx_each")
     t_rev = median_time(bf_reverse, 3 if q else 7, "nx_rev")
     t_sup = median_time(bf_super, 3 if q else 7, "nx_sup")
+    # the ratio to the single-source run is near the target, so it is also measured in interleaved
+    # rounds (recursion, then networkx, round after round): both then see the same machine load
+    round_ratios, round_ratios_back = [], []
+    for _ in range(3 if q else 9):
+        tb = median_time(lambda: chain.build_class_graph(case1, "c"), 11)
+        tk = median_time(lambda: chain.backward(g), 31)
+        tn = median_time(bf_reverse, 3)
+        round_ratios.append(tn / (tb + tk))
+        round_ratios_back.append(tn / tk)
     vals = bf_each()
     err_each = max(abs(v - sol.value[0, t, a]) for v, (t, a) in zip(vals, starts))
     dist = bf_reverse()
@@ -272,9 +281,12 @@ def main(argv=None) -> int:
     r1 = ratio(t_each, t_chain)
     row("c", f"`bellman_ford_path_length` × {len(starts)} starts (max error {err_each:.1e})", "nx_each",
         "≥ 20×", f"{r1:,.0f}× build+backward — {ok(r1 >= 20)}")
-    r2, r3 = ratio(t_rev, t_chain), ratio(t_rev, t_back)
+    r2, r3 = statistics.median(round_ratios), statistics.median(round_ratios_back)
     row("c", f"single-source Bellman–Ford from END on the reversed graph, all states (max error {err_rev:.1e})",
-        "nx_rev", "≥ 20×", f"{r2:,.1f}× build+backward — {ok(r2 >= 20)}; {r3:,.1f}× backward — {ok(r3 >= 20)}")
+        "nx_rev", "≥ 20×", f"{r2:,.1f}× build+backward — {ok(r2 >= 20)}; {r3:,.1f}× backward only — "
+        f"{ok(r3 >= 20)} (medians of {len(round_ratios)} interleaved rounds; range "
+        f"{min(round_ratios):.1f}–{max(round_ratios):.1f}× and {min(round_ratios_back):.1f}–"
+        f"{max(round_ratios_back):.1f}×)")
     r4 = ratio(t_nxbuild + t_rev, t_back)
     print(f"| c | … the same, graph made by `to_networkx` first, vs `backward` (both from the cost tables) | "
           f"{fmt_ms(t_nxbuild + t_rev)} | | ≥ 20× | {r4:,.0f}× — {ok(r4 >= 20)} |")

@@ -224,15 +224,23 @@ def vintage_of(year: int, age):
 
 def continuing_costs(held: AssetType, ages, vintages, chain_cost: float, rate: float, start_year: int,
                      year: int) -> np.ndarray:
-    """Vector form of :func:`continuing_cost` over ``ages`` (with their ``vintages``) [money]."""
+    """Vector form of :func:`continuing_cost` over ``ages`` (with their ``vintages``) [money].
+
+    Evaluated on an (age × years kept) grid at once; cells past the max age are
+    masked out of the minimum.
+    """
     ages = np.asarray(ages, dtype=int)
     vintages = np.asarray(vintages)
-    out = np.empty(ages.shape, dtype=float)
-    for idx, (a, v) in enumerate(zip(ages.ravel(), vintages.ravel())):
-        n = np.arange(0, held.max_age - a + 1)
-        disc = money.pf(rate, n)
-        later = a + np.arange(1, held.max_age - a + 1)
-        om_pw = np.concatenate([[0.0], np.cumsum(np.asarray(curves.om(held, later, v, start_year)) * disc[1:])])
-        sale = np.asarray(curves.market_value(held, a + n, year, start_year))
-        out.ravel()[idx] = float(np.min(om_pw + disc * (chain_cost - sale)))
-    return out
+    a = ages.ravel()[:, None]
+    v = vintages.ravel()[:, None]
+    n = np.arange(0, held.max_age + 1)[None, :]
+    ok = a + n <= held.max_age
+    served = np.minimum(a + n, held.max_age)  # service year a+n, clipped where masked
+    disc = np.asarray(money.pf(rate, np.arange(0, held.max_age + 1)))[None, :]
+    # O&M of service year a+j paid j years on (j = 1 … n): cumulative over the grid's columns
+    om_year = np.asarray(curves.om(held, np.maximum(served, 1), v, start_year))
+    om_pw = np.where(n >= 1, om_year * disc, 0.0)
+    om_pw = np.where(ok, om_pw, 0.0).cumsum(axis=1)
+    sale = np.asarray(curves.market_value(held, served, year, start_year))
+    total = np.where(ok, om_pw + disc * (chain_cost - sale), np.inf)
+    return total.min(axis=1).reshape(ages.shape)

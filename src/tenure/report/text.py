@@ -125,9 +125,11 @@ def plan_summary(plan, case: Case, out_dir: str | None = None, written: list[str
     if plan.status == "infeasible":
         lines.append("")
         lines.append("NO PLAN FITS THE CAPS: units reach their max age with no money to replace them.")
-        lines.append("Raise these years' caps by at least:")
-        for y, x in plan.shortfall:
-            lines.append(f"  {y}: {money(x)}")
+        total = sum(x for _, x in plan.shortfall)
+        lines.append(f"Raise these years' caps by at least (total {money(total)}):")
+        cells = [f"{y}: {money(x, 10)}" for y, x in plan.shortfall]
+        for j in range(0, len(cells), 4):
+            lines.append("  " + "   ".join(cells[j:j + 4]))
         if plan.forcing_units:
             lines.append("units whose forced replacement needs the money: " + ", ".join(plan.forcing_units[:12])
                          + (" …" if len(plan.forcing_units) > 12 else ""))
