@@ -39,7 +39,7 @@ INPUTS = (
 )
 
 
-def machine() -> str:
+def machine(load: float | None = None) -> str:
     cpu = platform.processor() or platform.machine()
     try:
         for line in Path("/proc/cpuinfo").read_text().splitlines():
@@ -48,10 +48,8 @@ def machine() -> str:
                 break
     except OSError:
         pass
-    load = ""
-    with contextlib.suppress(OSError, AttributeError):
-        load = " — load average %.1f at start" % os.getloadavg()[0]
-    return f"{cpu}, {os.cpu_count()} logical CPUs, Python {platform.python_version()}, {platform.system()}{load}"
+    extra = "" if load is None else f" — 1-minute load average {load:.1f} when the benchmark started"
+    return f"{cpu}, {os.cpu_count()} logical CPUs, Python {platform.python_version()}, {platform.system()}{extra}"
 
 
 def main(argv=None) -> int:
@@ -65,6 +63,10 @@ def main(argv=None) -> int:
                     help="gap of the capped solves (0.02: the first integer plan is usually enough)")
     ap.add_argument("--time-limit", type=float, default=120.0)
     args = ap.parse_args(argv)
+    load = None
+    with contextlib.suppress(OSError, AttributeError):
+        load = os.getloadavg()[0]
+    started = dt.datetime.now().astimezone()
 
     note = ""
     case_path = Path(args.case)
@@ -96,8 +98,8 @@ def main(argv=None) -> int:
     kind = "capped, gap %g" % args.gap if case.capped else "uncapped (recursion)"
     print(f"### Sweep benchmark — {case_path.name}{note}")
     print()
-    print(f"- machine: {machine()}")
-    print(f"- date: {dt.datetime.now().astimezone().strftime('%Y-%m-%d %H:%M %Z')}")
+    print(f"- machine: {machine(load)}")
+    print(f"- date: {started.strftime('%Y-%m-%d %H:%M %Z')}")
     print(f"- sweep: {args.draws} Monte Carlo draws, seed {args.seed}, {len(unc)} uncertain inputs, "
           f"{solves} solves per run ({kind}); median of {args.runs} run(s)")
     print(f"- results identical for every worker count: yes (P50 {reference['present_cost']['quantiles']['50']:,.0f})")

@@ -514,23 +514,37 @@ def test_infeasible_plan_object_and_json():
     assert all(set(x) == {"year", "extra_capital"} for x in d["shortfall"])
 
 
-def test_demo_shortfall_added_to_the_caps_makes_it_feasible(tmp_path):
-    """The demo with a 1.6 M cap: its LP relaxation is already infeasible (so no plan exists). The
-    shortfall reported, added year by year through cap_by_year, must give a case that solves."""
+def _demo_with_cap(cap: float) -> tuple[dict, object]:
     doc = read_document(DEMO)
-    doc["budget"] = {"cap": 1_600_000, "basis": "gross"}
-    case = build_case(doc, base_dir=DEMO.parent)
+    doc["budget"] = {"cap": cap, "basis": "gross"}
+    return doc, build_case(doc, base_dir=DEMO.parent)
+
+
+def test_demo_shortfall_added_to_the_caps_makes_it_feasible(tmp_path):
+    """The demo with a 1.2 M cap in every year: its LP relaxation is already infeasible, so no plan
+    exists. The shortfall, added year by year through cap_by_year, must give a case that solves."""
+    doc, case = _demo_with_cap(1_200_000)
     with pytest.raises(AssertionError):
         lp_relaxation(case)  # independent proof that no plan fits
-    plan = fleet.solve_capped(case, time_limit=10)
+    plan = fleet.solve_capped(case, time_limit=30)
     assert plan.status == "infeasible" and plan.shortfall
     extra = dict(plan.shortfall)
-    check_written_plan(case, plan, tmp_path / "short", extra=extra)
-    doc["budget"]["cap_by_year"] = {str(y): 1_600_000 + x for y, x in extra.items()}
+    assert all(x > 0 for x in extra.values())
+    check_written_plan(case, plan, tmp_path / "short", extra=extra)  # the plan shown fits the raised caps
+    doc["budget"]["cap_by_year"] = {str(y): 1_200_000 + x for y, x in extra.items()}
     raised = build_case(doc, base_dir=DEMO.parent)
     again = fleet.solve_capped(raised, time_limit=30)
     assert again.status in ("optimal", "feasible"), again.message
     check_written_plan(raised, again, tmp_path / "raised")
+
+
+def test_demo_time_limited_shortfall_still_raises_the_caps_enough(tmp_path):
+    """Cut short (5 s), the elastic program need not find the least extra capital, but the plan it
+    shows must still fit the caps raised by the shortfall it reports: that plan is the proof."""
+    _, case = _demo_with_cap(1_600_000)
+    plan = fleet.solve_capped(case, time_limit=5)
+    assert plan.status == "infeasible" and plan.shortfall
+    check_written_plan(case, plan, tmp_path, extra=dict(plan.shortfall))
 
 
 # ---------------------------------------------------------------------------

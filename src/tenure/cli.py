@@ -215,7 +215,7 @@ def build_parser() -> argparse.ArgumentParser:
         c.add_argument("--out", help="folder for the JSON and CSV results (default: print only)")
         c.add_argument("--workers", type=int, default=1, help="local worker processes (1)")
         c.add_argument("--cluster", metavar="ADDRESS",
-                       help="send the solves to a running Dask scheduler, e.g. tcp://10.0.0.5:8786")
+                       help="send the solves to a running Dask scheduler, e.g. tcp://scheduler-host:8786")
         c.add_argument("--solver", choices=("highs", "cbc"), default="highs", help="integer-program solver (highs)")
         c.add_argument("--time-limit", type=float, default=120.0, help="seconds per capped solve (120)")
         c.add_argument("--gap", type=float, default=0.005, help="relative optimality gap to stop at (0.005)")

@@ -134,7 +134,7 @@ def run_tasks(fn: Callable[[Any], Any], tasks: Sequence[Any], *, workers: int = 
     workers : int
         Local worker processes (1: run in this process).  Ignored with ``cluster``.
     cluster : str or None
-        Address of a running Dask distributed scheduler, e.g. ``"tcp://10.0.0.5:8786"``.
+        Address of a running Dask distributed scheduler, e.g. ``"tcp://scheduler-host:8786"``.
     progress : Progress or None
         Advanced by one per finished task.
 

@@ -768,10 +768,14 @@ def compare_text(doc: Mapping) -> str:
             continue
         rel = r["difference"] / abs(base["present_cost"]) if base["present_cost"] else 0.0
         b_under = doc["regret"]["breaks"]["base"][r["id"]]
-        fate = ("the base plan cannot be carried out under it (" + b_under[0] + (" …" if len(b_under) > 1 else "")
-                + ")") if b_under else (
-            f"kept as is, the base plan would cost {_money(doc['regret']['regret']['base'][r['id']])} more there "
-            "than the best plan")
+        reg_b = doc["regret"]["regret"]["base"][r["id"]]
+        if b_under:
+            fate = ("the base plan cannot be carried out under it (" + b_under[0]
+                    + (" …" if len(b_under) > 1 else "") + ")")
+        elif reg_b is not None and round(reg_b) == 0:
+            fate = "kept as is, the base plan is the cheapest plan known there too"
+        else:
+            fate = f"kept as is, the base plan would cost {_money(reg_b)} more there than the best plan"
         out.append(f"  {r['id']}: re-planned, {_money(r['difference'], signed=True)} ({rel:+.1%}) against the base; "
                    + fate)
 
