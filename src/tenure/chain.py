@@ -232,6 +232,17 @@ def _first_min(x: np.ndarray) -> tuple[int, float]:
     return -1, float(m)  # pragma: no cover - unreachable for finite m
 
 
+def _tie_tolerance(g: StageGraph, buy_pw: np.ndarray) -> float:
+    """Money below which two state values count as tied [money, time 0].
+
+    Relative ``TIE`` of the largest value a chain can reach (a purchase in
+    every year), so rounding noise never decides between keep and replace.
+    """
+    finite = np.abs(buy_pw[np.isfinite(buy_pw)])
+    scale = float(finite.max()) if finite.size else 1.0
+    return TIE * max(1.0, scale * (g.horizon + 1))
+
+
 def backward(g: StageGraph, buy_pw: np.ndarray | None = None, sale_pw: np.ndarray | None = None) -> ChainSolution:
     """Backward recursion over the stages of ``g``, one numpy step per stage.
 
@@ -242,8 +253,8 @@ def backward(g: StageGraph, buy_pw: np.ndarray | None = None, sale_pw: np.ndarra
         V_k(t,a)       = min(keep, replace)
 
     Ties go to keep, then to the first type in case order.  ``buy_pw`` and
-    ``sale_pw`` may be given to price the arcs differently (the fleet layer's
-    Lagrangian prices); by default the graph's own costs are used.
+    ``sale_pw`` may be given to price the arcs differently (for example with a
+    price on capital added); by default the graph's own costs are used.
 
     Complexity: O(H·T·A) time and memory.
     """
@@ -259,28 +270,25 @@ def backward(g: StageGraph, buy_pw: np.ndarray | None = None, sale_pw: np.ndarra
     # the oldest age column can never be kept (keep_pw is inf there): its keep value is inf
     keepv[:, :, -1] = np.inf
     keep_pw = g.keep_pw[:, :, :-1]
-    invalid = ~g.valid
-    tol = np.empty((T, A1))
+    tol = _tie_tolerance(g, buy)
     use_keep = np.empty((T, A1), dtype=bool)
-    # each stage writes into preallocated rows (no temporaries); same arithmetic as
-    # keep = keep_pw + V_{k+1} shifted, rep = b − sale, keep wins when keep ≤ rep + TIE·max(1, |rep|)
+    rep_tol = np.empty((T, A1))
+    # Values of ages past a type's max age are never read by a valid state (their keep arcs
+    # are inf and purchases enter at age 1), so they are masked once after the loop.
     for k in range(H - 1, -1, -1):
         nxt = V[k + 1]
-        keep, rep, vk, pk = keepv[k], repv[k], V[k], pol[k]
+        keep, rep = keepv[k], repv[k]
         np.add(keep_pw[k], nxt[:, 1:], out=keep[:, :-1])
         j, b = _first_min(buy[k] + nxt[:, 1])
         np.subtract(b, sale[k], out=rep)
-        np.abs(rep, out=tol)
-        np.maximum(tol, 1.0, out=tol)
-        tol *= TIE
-        tol += rep
-        np.less_equal(keep, tol, out=use_keep)
-        np.copyto(vk, rep)
-        np.copyto(vk, keep, where=use_keep)
-        np.copyto(vk, np.inf, where=invalid)
-        pk.fill(j)
-        np.copyto(pk, KEEP, where=use_keep)
+        np.add(rep, tol, out=rep_tol)
+        np.less_equal(keep, rep_tol, out=use_keep)
+        np.copyto(V[k], rep)
+        np.copyto(V[k], keep, where=use_keep)
+        pol[k] = j
+        np.copyto(pol[k], KEEP, where=use_keep)
         best[k] = j
+    V[:H, ~g.valid] = np.inf
     return ChainSolution(graph=g, value=V, policy=pol, best_buy=best, keep_value=keepv, replace_value=repv)
 
 
