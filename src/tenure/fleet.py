@@ -562,20 +562,47 @@ def _pulp_problem(prog: CohortProgram, integer: bool):
 
 
 def _solve_cbc(prog: CohortProgram, time_limit: float, gap: float, warm: np.ndarray | None):
+    """CBC through pulp: (x or None, status, proven lower bound or None).
+
+    pulp reports "Optimal" also when CBC stopped within its gap tolerance, so the proof is read
+    from CBC's log: "Optimal" here only when CBC proved the plan optimal; otherwise the bound is the
+    "Lower bound" CBC logs (None when it logs none).
+    """
+    import os
+    import tempfile
+
     import pulp
 
     prob, xs, _ = _pulp_problem(prog, integer=True)
     if warm is not None:
         for v, val in zip(xs, warm):
             v.setInitialValue(float(val))
-    solver = pulp.PULP_CBC_CMD(msg=False, timeLimit=max(1, int(time_limit)), gapRel=gap,
-                               warmStart=warm is not None)
-    prob.solve(solver)
+    with tempfile.TemporaryDirectory(prefix="tenure-cbc-") as tmp:
+        log_path = os.path.join(tmp, "cbc.log")
+        solver = pulp.PULP_CBC_CMD(msg=False, timeLimit=max(1, int(time_limit)), gapRel=gap,
+                                   warmStart=warm is not None, logPath=log_path)
+        prob.solve(solver)
+        try:
+            with open(log_path, encoding="utf-8", errors="replace") as fh:
+                log = fh.read()
+        except OSError:
+            log = ""
     status = pulp.LpStatus[prob.status]
     if status not in ("Optimal",) and prob.sol_status not in (1, 2):
-        return None, status
-    x = np.array([v.value() or 0.0 for v in xs])
-    return np.round(x), ("Optimal" if prob.sol_status == 1 else "Feasible")
+        return None, status, None
+    x = np.round(np.array([v.value() or 0.0 for v in xs]))
+    result = next((ln for ln in log.splitlines() if ln.startswith("Result - ")), "")
+    proven = prob.sol_status == 1 and "Optimal solution found" in result and "tolerance" not in result
+    if proven:
+        return x, "Optimal", float(prog.cost @ x)
+    bound = None
+    for ln in log.splitlines():
+        if ln.startswith("Lower bound:"):
+            try:
+                bound = float(ln.split(":", 1)[1])
+            except ValueError:
+                bound = None
+    return x, "Feasible", bound
 
 
 def _lp_cbc(prog: CohortProgram):
@@ -736,14 +763,16 @@ def solve_capped(case: Case, solver: str = "highs", time_limit: float = 120.0, g
             elif _status_name(hm) == "Infeasible":
                 return _infeasible(case, graphs, sols, uncapped_cost, solver, deadline, t0, stats)
         else:
-            xm, st = _solve_cbc(prog, left, gap, best_x)
+            xm, st, cbc_bound = _solve_cbc(prog, left, gap, best_x)
             if xm is not None:
                 cm = float(prog.cost @ xm)
                 if cm < best_cost:
                     best_x, best_cost = xm, cm
                     stats.setdefault("first_plan_seconds", round(time.perf_counter() - t0, 3))
-                if st == "Optimal":
+                if st == "Optimal":  # proven by CBC, not merely within its gap tolerance
                     bound = max(bound, best_cost)
+                elif cbc_bound is not None:
+                    bound = max(bound, cbc_bound)
             elif st == "Infeasible":
                 return _infeasible(case, graphs, sols, uncapped_cost, solver, deadline, t0, stats)
     if best_x is None:
