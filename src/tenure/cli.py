@@ -88,7 +88,7 @@ def cmd_plan(args) -> int:
     written = [p.name for p in write_plan(plan, out)]
     written += _extra_writers(plan, case, out)
     print(text.plan_summary(plan, case, str(out), written))
-    return EXIT_INFEASIBLE if plan.status == "infeasible" else 0
+    return EXIT_INFEASIBLE if plan.status in ("infeasible", "unsolved") else 0
 
 
 def _extra_writers(plan, case, out: Path) -> list[str]:
@@ -241,6 +241,12 @@ def build_parser() -> argparse.ArgumentParser:
     return p
 
 
+def _no_plan_errors() -> tuple:
+    """Exceptions meaning that no plan exists at all (caught only after they happen, so fleet loads lazily)."""
+    fleet = sys.modules.get("tenure.fleet")
+    return (fleet.InfeasibleLimits,) if fleet is not None else ()
+
+
 def main(argv: list[str] | None = None) -> int:
     parser = build_parser()
     args = parser.parse_args(argv)
@@ -257,6 +263,9 @@ def main(argv: list[str] | None = None) -> int:
     except UsageError as exc:
         print(f"tenure {args.command}: {exc}", file=sys.stderr)
         return EXIT_BAD_INPUT
+    except _no_plan_errors() as exc:
+        print(f"tenure {args.command}: {exc}", file=sys.stderr)
+        return EXIT_INFEASIBLE
     except BrokenPipeError:  # e.g. piped into `head`
         return 0
 

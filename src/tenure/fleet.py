@@ -419,19 +419,28 @@ def _round_year(prog: CohortProgram, x: np.ndarray, k: int, case: Case, eager: i
     return vals
 
 
-def fix_and_relax(prog: CohortProgram, case: Case, h, x: np.ndarray, deadline: float, log=None):
+def fix_and_relax(prog: CohortProgram, case: Case, h, x: np.ndarray, deadline: float, log=None,
+                  max_backtracks: int | None = None):
     """Round the LP solution year by year, re-solving the LP for the later years.
 
-    Returns the integral solution vector, or None when a year cannot be rounded
-    within its cap (the MIP solver then takes over).
+    A year is rounded as the LP suggests first, then more eagerly (see
+    :func:`_round_year`) when the later years would become infeasible; when no
+    rounding of a year works, the year before is undone and rounded more
+    eagerly (at most ``max_backtracks`` times, default twice the horizon).
+
+    Returns the integral solution vector, or None when no rounding is found
+    (the MIP solver then takes over).
     """
     H = case.study.horizon
     lower = prog.lower.copy()
     upper = prog.upper.copy()
     x = x.copy()
-    for k in range(H):
+    budget = 2 * H if max_backtracks is None else max_backtracks
+    stack: list[tuple[np.ndarray, np.ndarray, int, np.ndarray]] = []  # per fixed year: idx, values, mode, x before
+    k, first_mode, backtracks = 0, 0, 0
+    while k < H:
         fixed = False
-        for eager in (0, 1, 2):
+        for eager in range(first_mode, 3):
             if time.perf_counter() > deadline:
                 return None
             vals = _round_year(prog, x, k, case, eager)
@@ -442,21 +451,33 @@ def fix_and_relax(prog: CohortProgram, case: Case, h, x: np.ndarray, deadline: f
             changed = bool(np.any(np.abs(x[idx] - v) > 1e-7))
             h.changeColsBounds(len(idx), idx, v, v)
             if not changed or k == H - 1:
+                stack.append((idx, v, eager, x.copy()))
                 x[idx] = v
                 fixed = True
                 break
             xn, _, st = _solve_lp(h)
             if xn is not None:
+                stack.append((idx, v, eager, x))
                 x = xn
                 fixed = True
                 break
             # undo this year's fixing and round more eagerly
             h.changeColsBounds(len(idx), idx, lower[idx], upper[idx])
-        if not fixed:
+        if fixed:
+            k, first_mode = k + 1, 0
+            continue
+        if not stack or backtracks >= budget:
             if log:
                 log(f"year {case.study.start_year + k}: no rounding keeps the later years feasible")
             _solve_lp(h)
             return None
+        # undo the year before and round it more eagerly
+        idx, _, mode, x = stack.pop()
+        h.changeColsBounds(len(idx), idx, lower[idx], upper[idx])
+        k, first_mode = k - 1, mode + 1
+        backtracks += 1
+    if log and backtracks:
+        log(f"fix-and-relax needed {backtracks} backtrack(s)")
     return np.round(x)
 
 
@@ -620,8 +641,15 @@ def _lp_cbc(prog: CohortProgram):
 # ---------------------------------------------------------------------------
 # infeasibility: the elastic program
 # ---------------------------------------------------------------------------
-def _shortfall(case: Case, graphs, time_limit: float, solver: str):
-    """Least extra capital per year (integer flows) that lets the caps be met; returns (extra, x, prog)."""
+def _shortfall(case: Case, graphs, time_limit: float, solver: str, uncapped_cost: float):
+    """Least extra capital per year (integer flows) that lets the caps be met.
+
+    Returns ``(extra, x, prog, proven)``: the extra capital by planning year
+    (None when no point was found), the flows of the plan under the raised
+    caps, the program, and whether the solver proved that *some* extra capital
+    is needed (its dual bound on the extra is above zero), i.e. that no plan
+    fits the caps as they are.
+    """
     prog = build_program(case, graphs)
     H = case.study.horizon
     cap_years = [k for k in range(H) if prog.cap_rows[k] >= 0]
@@ -652,13 +680,19 @@ def _shortfall(case: Case, graphs, time_limit: float, solver: str):
     # always fixes the case; the gap only bounds how far above the least extra it may be
     h.setOptionValue("mip_rel_gap", 1e-3)
     h.run()
-    if h.getInfo().primal_solution_status != 2:  # no feasible point: a limit, not a cap, is binding
-        return None, None, prog
+    info = h.getInfo()
+    if info.primal_solution_status != 2:
+        if _status_name(h) == "Infeasible":  # even unlimited capital does not help: a limit binds
+            raise InfeasibleLimits()
+        raise InfeasibleLimits(f"no plan was found within {time_limit:.0f} s, even with extra capital; "
+                               "allow more time (--time-limit) or check the caps and limits")
     xs = np.asarray(h.getSolution().col_value)
     extra = np.zeros(H)
     for j, k in enumerate(cap_years):
         extra[k] = math.ceil(max(0.0, xs[n0 + j]) - 1e-6) if xs[n0 + j] > 1e-6 else 0.0
-    return extra, np.round(xs[:n0]), prog
+    # every plan costs at least the uncapped optimum, so the tie-break term is at least 1e-6 of it
+    least_extra = float(info.mip_dual_bound) - 1e-6 * uncapped_cost
+    return extra, np.round(xs[:n0]), prog, least_extra > 0.5
 
 
 # ---------------------------------------------------------------------------
@@ -720,7 +754,8 @@ def solve_capped(case: Case, solver: str = "highs", time_limit: float = 120.0, g
     stats["lp_seconds"] = round(time.perf_counter() - t0, 3)
     if x_lp is None:
         log(f"LP relaxation: {st} — diagnosing the shortfall")
-        return _infeasible(case, graphs, sols, uncapped_cost, solver, deadline, t0, stats)
+        return _infeasible(case, graphs, sols, uncapped_cost, solver, deadline, t0, stats,
+                           proven=st == "Infeasible")
     lp_bound = float(prog.cost @ x_lp)
     shadow = {case.study.start_year + k: float(max(0.0, -duals[prog.cap_rows[k]]))
               for k in range(case.study.horizon) if prog.cap_rows[k] >= 0}
@@ -761,7 +796,7 @@ def solve_capped(case: Case, solver: str = "highs", time_limit: float = 120.0, g
                     stats.setdefault("first_plan_seconds", round(time.perf_counter() - t0, 3))
                 bound = max(bound, float(info.mip_dual_bound))
             elif _status_name(hm) == "Infeasible":
-                return _infeasible(case, graphs, sols, uncapped_cost, solver, deadline, t0, stats)
+                return _infeasible(case, graphs, sols, uncapped_cost, solver, deadline, t0, stats, proven=True)
         else:
             xm, st, cbc_bound = _solve_cbc(prog, left, gap, best_x)
             if xm is not None:
@@ -774,11 +809,10 @@ def solve_capped(case: Case, solver: str = "highs", time_limit: float = 120.0, g
                 elif cbc_bound is not None:
                     bound = max(bound, cbc_bound)
             elif st == "Infeasible":
-                return _infeasible(case, graphs, sols, uncapped_cost, solver, deadline, t0, stats)
+                return _infeasible(case, graphs, sols, uncapped_cost, solver, deadline, t0, stats, proven=True)
     if best_x is None:
         stats["seconds"] = round(time.perf_counter() - t0, 3)
-        return _infeasible(case, graphs, sols, uncapped_cost, solver, deadline, t0, stats,
-                           message=f"no plan found within {time_limit:g} s; the diagnosis below assumes none exists")
+        return _infeasible(case, graphs, sols, uncapped_cost, solver, deadline, t0, stats)
     cur_gap = max(0.0, (best_cost - bound) / abs(best_cost))
     history.append([round(time.perf_counter() - t0, 3), cur_gap])
     status_word = "optimal" if cur_gap <= 1e-9 else "feasible"
@@ -791,20 +825,30 @@ def solve_capped(case: Case, solver: str = "highs", time_limit: float = 120.0, g
     return plan
 
 
-def _infeasible(case, graphs, sols, uncapped_cost, solver, deadline, t0, stats, message=""):
-    """The elastic diagnosis: shortfall by year, forcing units, and the plan under the raised caps."""
+def _infeasible(case, graphs, sols, uncapped_cost, solver, deadline, t0, stats, proven: bool = False):
+    """The elastic diagnosis: shortfall by year, forcing units, and the plan under the raised caps.
+
+    ``proven``: the caller already proved that no plan fits (the LP relaxation
+    or the MIP solver said so).  Otherwise the status is "infeasible" only when
+    the elastic program proves that extra capital is needed, and "unsolved"
+    when it cannot tell within the time left.
+    """
     left = max(5.0, deadline - time.perf_counter())
-    extra, x, prog = _shortfall(case, graphs, left, solver)
+    extra, x, prog, needs_extra = _shortfall(case, graphs, left, solver, uncapped_cost)
+    proven = proven or needs_extra
     y0 = case.study.start_year
-    if extra is None:
-        raise InfeasibleLimits(case)
     shortfall = [(y0 + k, float(extra[k])) for k in range(case.study.horizon) if extra[k] > 0]
     groups = flows_to_groups(prog, x, case, sols)
     stats["seconds"] = round(time.perf_counter() - t0, 3)
-    plan = assemble(case, graphs, groups, status="infeasible", method="integer program (elastic)",
-                    uncapped_cost=uncapped_cost, shortfall=shortfall,
-                    message=message or "no plan fits the caps; the plan shown fits the caps raised by the shortfall",
-                    stats=stats)
+    if proven:
+        status, message = "infeasible", ("no plan fits the caps (proven); the plan shown fits the caps raised "
+                                         "by the shortfall")
+    else:
+        status, message = "unsolved", (f"no plan within the caps was found in {stats['seconds']:g} s and none is "
+                                       "proven impossible; raising the caps by the shortfall is enough for the "
+                                       "plan shown (a longer --time-limit may find a plan within the caps)")
+    plan = assemble(case, graphs, groups, status=status, method="integer program (elastic)",
+                    uncapped_cost=uncapped_cost, shortfall=shortfall, message=message, stats=stats)
     short_years = {y for y, _ in shortfall}
     forcing = []
     for u in plan.units:
@@ -816,8 +860,8 @@ def _infeasible(case, graphs, sols, uncapped_cost, solver, deadline, t0, stats, 
 
 
 class InfeasibleLimits(Exception):
-    """No plan exists even with unlimited capital: a purchase limit cannot be met."""
+    """No plan at all: even unlimited capital does not help (a purchase limit binds), or none was found in time."""
 
-    def __init__(self, case: Case):
-        super().__init__("no plan exists even with unlimited capital: the [[limit]] purchase limits are too low for "
-                         "the units that reach max_age (raise max_buys_per_year)")
+    def __init__(self, message: str | None = None):
+        super().__init__(message or "no plan exists even with unlimited capital: the [[limit]] purchase limits are "
+                         "too low for the units that reach max_age (raise max_buys_per_year)")

@@ -20,7 +20,7 @@ import numpy as np
 from .chain import KEEP, StageGraph, Step, path_cost
 from .model import Case
 
-STATUSES = ("optimal", "feasible", "infeasible")
+STATUSES = ("optimal", "feasible", "infeasible", "unsolved")
 
 
 @dataclass(frozen=True)
@@ -80,7 +80,9 @@ class Plan:
     Attributes
     ----------
     status : str
-        "optimal", "feasible" (with a proven ``gap``) or "infeasible".
+        "optimal", "feasible" (with a proven ``gap``), "infeasible" (proven:
+        no plan fits the caps) or "unsolved" (no plan within the caps found in
+        the time allowed, none proven impossible).
     method : str
         "recursion" or "integer program".
     present_cost : float
@@ -163,7 +165,7 @@ class Plan:
             "stats": self.stats,
             "message": self.message,
         }
-        if self.status == "infeasible" or self.shortfall:
+        if self.status in ("infeasible", "unsolved") or self.shortfall:
             d["shortfall"] = [{"year": y, "extra_capital": _r(x)} for y, x in self.shortfall]
             d["forcing_units"] = list(self.forcing_units)
         return d

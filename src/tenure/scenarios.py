@@ -357,7 +357,7 @@ def run_task(task: Mapping) -> dict:
     except CaseError as exc:
         return {"status": "error", "message": str(exc), "present_cost": None}
     except InfeasibleLimits as exc:  # type: ignore[misc]
-        return {"status": "infeasible", "message": f"a purchase limit cannot be met: {exc}", "present_cost": None}
+        return {"status": "infeasible", "message": f"no plan: {exc}", "present_cost": None}
     d = plan.to_dict()
     out = {"status": plan.status, "present_cost": float(plan.present_cost), "gap": float(plan.gap),
            "lower_bound": float(plan.lower_bound), "message": plan.message,

@@ -67,6 +67,7 @@ STATUS_WORDS = {
     "optimal": "optimal — the least present cost is proven",
     "feasible": "feasible — within a proven gap of the least present cost",
     "infeasible": "no plan fits the caps",
+    "unsolved": "no plan within the caps found in the time allowed",
 }
 
 
@@ -279,10 +280,10 @@ def summary_html(plan, case: Case) -> str:
     tight = [y for y in capped_years if y.slack is not None and y.slack < 0.005 * max(abs(y.cap), 1.0)]
     boxes = [
         fig_box("Present cost", money(plan.present_cost), f"at the start of {cur}, constant {cur} currency",
-                warn=plan.status == "infeasible"),
+                warn=plan.status in ("infeasible", "unsolved")),
         fig_box("Status", plan.status, STATUS_WORDS.get(plan.status, "") + f" ({plan.method})",
                 warn=plan.status != "optimal"),
-        fig_box("Optimality gap", pct(plan.gap, 2) if plan.status != "infeasible" else "—",
+        fig_box("Optimality gap", pct(plan.gap, 2) if plan.status not in ("infeasible", "unsolved") else "—",
                 f"proven lower bound {money(plan.lower_bound)}" if plan.status == "feasible"
                 else ("no gap: the plan is optimal" if plan.status == "optimal" else "")),
     ]
@@ -305,12 +306,15 @@ def summary_html(plan, case: Case) -> str:
                 if plan.end_value == "salvage" else f"units held at {plan.end_year} costed as continuing chains")
     boxes.append(fig_box("End of the horizon", plan.end_value, end_note))
     out = ['<div class="figures">' + "".join(boxes) + "</div>"]
-    if plan.status == "infeasible":
+    if plan.status in ("infeasible", "unsolved"):
         rows = [(y, money(x)) for y, x in plan.shortfall]
-        out.append('<div class="notice"><strong>No plan fits the caps.</strong> Some units reach their max age in '
-                   "years without enough capital to replace them. Raising these years' caps by at least the "
-                   "amounts below would make a plan possible." + table(("year", "extra capital needed"), rows,
-                                                                       num=(1,)))
+        head = ('<strong>No plan fits the caps.</strong> Some units reach their max age in years without enough '
+                "capital to replace them. Raising these years' caps by the amounts below makes the plan shown "
+                "possible." if plan.status == "infeasible" else
+                "<strong>No plan within the caps was found in the time allowed</strong>, and none is proven "
+                "impossible. Raising these years' caps by the amounts below is enough for the plan shown; a "
+                "longer time limit may find a plan within the caps as they are.")
+        out.append('<div class="notice">' + head + table(("year", "extra capital needed"), rows, num=(1,)))
         if plan.forcing_units:
             out.append("<p>Units whose forced replacement needs the money: "
                        + e(", ".join(plan.forcing_units[:20])) + (" …" if len(plan.forcing_units) > 20 else "")

@@ -122,11 +122,16 @@ def plan_summary(plan, case: Case, out_dir: str | None = None, written: list[str
         if priced:
             lines.append("  dearest caps (present-cost saving per extra unit of money, LP relaxation): "
                          + ", ".join(f"{y.year} {y.shadow_price:.3f}" for y in priced))
-    if plan.status == "infeasible":
+    if plan.status in ("infeasible", "unsolved"):
         lines.append("")
-        lines.append("NO PLAN FITS THE CAPS: units reach their max age with no money to replace them.")
+        if plan.status == "infeasible":
+            lines.append("NO PLAN FITS THE CAPS: units reach their max age with no money to replace them.")
+        else:
+            lines.append("NO PLAN WITHIN THE CAPS WAS FOUND in the time allowed, and none is proven impossible.")
+            lines.append("A longer --time-limit may find one; the shortfall below is enough for the plan shown.")
         total = sum(x for _, x in plan.shortfall)
-        lines.append(f"Raise these years' caps by at least (total {money(total)}):")
+        lines.append(f"Raising these years' caps by these amounts makes the plan shown possible "
+                     f"(total {money(total)}, the least total extra capital found):")
         cells = [f"{y}: {money(x, 10)}" for y, x in plan.shortfall]
         for j in range(0, len(cells), 4):
             lines.append("  " + "   ".join(cells[j:j + 4]))
