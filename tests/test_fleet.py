@@ -621,3 +621,29 @@ def test_small_shadow_prices_are_lp_slopes(name):
 def test_generated_shadow_prices_are_lp_slopes(generated):
     case, plan = generated["gross"]
     _check_shadow_prices(case, plan, n_diff=6)
+
+
+# ---------------------------------------------------------------------------
+# "infeasible" means proven; the LP relaxation alone cannot prove it here
+# ---------------------------------------------------------------------------
+def test_integer_infeasibility_that_the_lp_misses_is_proven_and_reported():
+    """Three vans one year short of max age, a cap of 1.5 vans a year: the LP replaces 1.5 vans in each of
+    the two years it has, whole vans cannot (at most one a year, two in all); the elastic program proves
+    that extra capital is needed, so the status is "infeasible", not merely "unsolved"."""
+    doc = small_doc(horizon=4, units=[{"id": f"V{j}", "type": "van-a", "age": 5} for j in range(1, 4)])
+    price_2027, price_2028 = 30000.0, 30000.0 * 1.02
+    doc["budget"] = {"cap": 1.5 * price_2028, "basis": "gross"}
+    case = build_case(doc)
+    assert lp_status(case) == "Optimal"
+    exact, _ = exhaustive_optimum(case)
+    assert exact is None  # no joint schedule fits: the independent check
+    plan = fleet.solve_capped(case, time_limit=30)
+    assert plan.status == "infeasible"
+    extra = dict(plan.shortfall)
+    # by hand: one of the two years must buy two vans; the cheaper is 2027 (2 × 30,000 − 45,900 = 14,100)
+    least = 2 * price_2027 - 1.5 * price_2028
+    assert least - 1.0 <= sum(extra.values()) <= least * (1 + 1e-3) + 1.0
+    raised = copy.deepcopy(doc)
+    raised["budget"]["cap_by_year"] = {str(y): 1.5 * price_2028 + x for y, x in extra.items()}
+    again = fleet.solve_capped(build_case(raised), time_limit=30)
+    assert again.status in ("optimal", "feasible")
