@@ -97,6 +97,10 @@ class MoneyScale:
         return FuncFormatter(fmt)
 
 
+
+#: most panels a multi-panel chart draws (classes in the age map, types in the EAC chart)
+MAX_PANELS = 8
+
 def money_scale(values: Iterable[float | None]) -> MoneyScale:
     """Millions, thousands or plain units, from the largest magnitude shown."""
     vals = [abs(float(v)) for v in values if v is not None and np.isfinite(float(v))]
@@ -299,7 +303,12 @@ def age_heatmap(plan, case: Case) -> str:
     if not plan.units:
         return message_svg(cid, "Fleet age by year", "The plan has no unit schedule to draw.")
     uy = unit_years(plan, case)
-    classes = [c for c in case.classes if any(u.class_ == c for u in plan.units)]
+    counts: dict[str, int] = {}
+    for u in plan.units:
+        counts[u.class_] = counts.get(u.class_, 0) + 1
+    # a page holds a few panels; a large fleet shows its largest classes (the caption says so)
+    largest = sorted(counts, key=lambda c: -counts[c])[:MAX_PANELS]
+    classes = [c for c in case.classes if c in largest]
     grids, max_ages = {}, {}
     for c in classes:
         types = case.types_of(c)
@@ -420,6 +429,7 @@ def eac_chart(case: Case, life_tables: Sequence) -> str:
     cur = case.study.start_year
     if not life_tables:
         return message_svg(cid, "Equivalent annual cost", "No type can be bought during the study.")
+    life_tables = list(life_tables)[:MAX_PANELS]
     n = len(life_tables)
     cols = 2 if n > 1 else 1
     rows = (n + cols - 1) // cols

@@ -400,6 +400,20 @@ def plan_charts(plan, case: Case, life_tables) -> list[tuple[str, str, str, str]
     """(id, title, how to read, svg) of each chart of the plan report, in page order."""
     cur = case.study.start_year
     capped = any(y.cap is not None for y in plan.years)
+    n_classes = len({u.class_ for u in plan.units})
+    class_note = (f" The {charts.MAX_PANELS} classes with the most units of {n_classes} are shown; the spreadsheet "
+                  "has every unit." if n_classes > charts.MAX_PANELS else "")
+    bought: dict[str, int] = {}
+    for u in plan.units:
+        for ev in u.events:
+            bought[ev.type] = bought.get(ev.type, 0) + 1
+    if len(life_tables) > charts.MAX_PANELS:
+        # the types the plan buys most come first
+        life_tables = sorted(life_tables, key=lambda lt: -bought.get(lt.type, 0))[:charts.MAX_PANELS]
+        type_note = (f" The {charts.MAX_PANELS} types the plan buys most are shown; tenure life prints every "
+                     "type.")
+    else:
+        type_note = ""
     out = [
         ("chart-capital", "Capital per year" + (" against the cap" if capped else ""),
          ("Each bar is the money spent on new units in that year (purchase prices, undiscounted). "
@@ -411,7 +425,7 @@ def plan_charts(plan, case: Case, life_tables) -> list[tuple[str, str, str, str]
         ("chart-ages", "Fleet age by year",
          "One panel per class. Each column is a year, each row an age; the colour says how many units have that "
          "age in that year (white: none; lighter colours: more units). Age 0 means bought that year. The "
-         "vermillion line is the max age: units are replaced on reaching it.",
+         "vermillion line is the max age: units are replaced on reaching it." + class_note,
          charts.age_heatmap(plan, case)),
         ("chart-types", "Units in service by type",
          "The height of each band is the number of units of that type in service in the year; the total is the "
@@ -421,7 +435,7 @@ def plan_charts(plan, case: Case, life_tables) -> list[tuple[str, str, str, str]
          "For one new unit of each type that can be bought, bought in the year shown: the yearly cost of owning "
          "it (capital: price less resale value; O&M; and their total) if it is kept N years and then sold. The "
          "lowest point of the total is the economic life; the shaded band holds the lives whose cost is "
-         f"within the tolerance of the least. Money per year, in constant {cur} currency.",
+         f"within the tolerance of the least. Money per year, in constant {cur} currency." + type_note,
          charts.eac_chart(case, life_tables)),
         ("chart-class-cost", "Present cost by class",
          f"The present cost of each class's part of the plan, at the start of {cur} in constant {cur} currency "
