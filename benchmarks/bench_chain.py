@@ -36,6 +36,7 @@ import time
 import networkx as nx
 import numpy as np
 
+from benchinfo import cpu_model
 from tenure import chain
 from tenure.case import build_case
 from tenure.plan import assemble
@@ -135,17 +136,6 @@ def median_time(fn, reps: int, label: str | None = None) -> float:
     if label:
         TIMES[label] = (med, min(ts))
     return med
-
-
-def cpu_model() -> str:
-    try:
-        with open("/proc/cpuinfo") as fh:
-            for line in fh:
-                if line.lower().startswith("model name"):
-                    return line.split(":", 1)[1].strip()
-    except OSError:
-        pass
-    return platform.processor() or platform.machine()
 
 
 def pin_one_core() -> str:

@@ -48,6 +48,7 @@ sys.path.insert(0, str(HERE))
 
 from fleetgen import capped_case, invented_fleet  # noqa: E402
 
+from benchinfo import cpu_model
 from tenure import fleet  # noqa: E402
 from tenure.case import build_case  # noqa: E402
 
@@ -216,14 +217,7 @@ def run_plain(case, time_limit: float, bound: float) -> dict:
 # machine and table
 # ---------------------------------------------------------------------------
 def machine() -> dict:
-    cpu = platform.processor() or "unknown"
-    try:
-        for line in Path("/proc/cpuinfo").read_text().splitlines():
-            if line.startswith("model name"):
-                cpu = line.split(":", 1)[1].strip()
-                break
-    except OSError:
-        pass
+    cpu = cpu_model()
     try:
         cores = len(os.sched_getaffinity(0))
     except AttributeError:

@@ -27,6 +27,7 @@ from pathlib import Path
 ROOT = Path(__file__).resolve().parents[1]
 sys.path.insert(0, str(ROOT / "src"))
 
+from benchinfo import cpu_model
 from tenure import scenarios as sc  # noqa: E402
 from tenure.case import load_case  # noqa: E402
 from tenure.model import Uncertain  # noqa: E402
@@ -40,14 +41,7 @@ INPUTS = (
 
 
 def machine(load: float | None = None) -> str:
-    cpu = platform.processor() or platform.machine()
-    try:
-        for line in Path("/proc/cpuinfo").read_text().splitlines():
-            if line.startswith("model name"):
-                cpu = line.split(":", 1)[1].strip()
-                break
-    except OSError:
-        pass
+    cpu = cpu_model()
     extra = "" if load is None else f" — 1-minute load average {load:.1f} when the benchmark started"
     return f"{cpu}, {os.cpu_count()} logical CPUs, Python {platform.python_version()}, {platform.system()}{extra}"
 

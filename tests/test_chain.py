@@ -35,7 +35,7 @@ from tenure import chain, curves, life
 from tenure.case import build_case, load_case
 from tenure.chain import KEEP, Step
 from tenure.report.tables import write_plan
-from tenure.solve import build_graphs, solve_uncapped
+from tenure.solve import solve_uncapped
 
 ROOT = Path(__file__).resolve().parents[1]
 CASES = ROOT / "cases"

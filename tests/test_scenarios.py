@@ -26,7 +26,7 @@ import pytest
 from hypothesis import given, settings
 from hypothesis import strategies as st
 
-from tenure import curves, scenarios as sc
+from tenure import scenarios as sc
 from tenure.case import CaseError, build_case, load_case
 from tenure.cli import main
 from tenure.model import Scenario, Uncertain

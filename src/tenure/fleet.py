@@ -301,12 +301,10 @@ def _round_year(prog: CohortProgram, x: np.ndarray, k: int, case: Case, eager: i
     years after, which is what a failed rounding usually lacks.
     """
     vals: dict[int, float] = {}
-    spend = 0.0
     cands = []  # (frac, class, state) candidates for one more sale
     per_class = {}
     for cls, ci in prog.cols.items():
-        g = prog.graphs[cls]
-        keep, sell, buy = ci.keep[k], ci.sell[k], ci.buy[k]
+        keep, sell = ci.keep[k], ci.sell[k]
         sells = {}
         for t, a in zip(*np.nonzero((sell >= 0) | (keep >= 0))):
             t, a = int(t), int(a)
@@ -384,7 +382,6 @@ def _round_year(prog: CohortProgram, x: np.ndarray, k: int, case: Case, eager: i
         # the floors (and the forced sales) alone break the cap or limit: defer the least-forced sales
         deferrable = []
         for cls, sells in per_class.items():
-            g = prog.graphs[cls]
             for (t, a), v in sells.items():
                 jk = int(prog.cols[cls].keep[k][t, a])
                 js = int(prog.cols[cls].sell[k][t, a])
@@ -852,7 +849,6 @@ def _infeasible(case, graphs, sols, uncapped_cost, solver, deadline, t0, stats, 
     short_years = {y for y, _ in shortfall}
     forcing = []
     for u in plan.units:
-        t = case.type(u.start_type)
         for e in u.events:
             if e.year in short_years and e.from_age >= case.type(e.from_type).max_age:
                 forcing.append(f"{u.unit} ({e.year}, age {e.from_age})")

@@ -472,7 +472,7 @@ def plan_report(plan, case: Case, life_tables) -> str:
     body.append('<section id="summary"><h2>Summary</h2>')
     body.append(summary_html(plan, case))
     body.append("</section>")
-    body.append(f'<section id="first-years"><h2>Replacements in the first five years</h2>')
+    body.append('<section id="first-years"><h2>Replacements in the first five years</h2>')
     body.append(first_years_html(plan, case))
     body.append("</section>")
     body.append('<section id="charts"><h2>Charts</h2>')
