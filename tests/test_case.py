@@ -180,11 +180,17 @@ def test_each_bad_csv_row_is_reported_with_its_row_number(tmp_path):
     assert any("'old'" in p.message for p in problems if p.path == "row 3.age")
 
 
-def test_csv_unit_of_unknown_type_names_its_row(tmp_path):
-    (tmp_path / "fleet.csv").write_text("id,type,age\nV1,van,2\nX9,vna,1\n", encoding="utf-8")
+def csv_inventory_doc(tmp_path, text: str) -> dict:
+    """The small valid case with its inventory moved to ``fleet.csv`` holding ``text``."""
+    (tmp_path / "fleet.csv").write_text(text, encoding="utf-8")
     doc = base_doc()
     doc.pop("unit")
     doc["fleet"] = {"file": "fleet.csv"}
+    return doc
+
+
+def test_csv_unit_of_unknown_type_names_its_row(tmp_path):
+    doc = csv_inventory_doc(tmp_path, "id,type,age\nV1,van,2\nX9,vna,1\n")
     with pytest.raises(CaseError) as err:
         build_case(doc, base_dir=tmp_path)
     (p,) = err.value.problems
@@ -192,10 +198,7 @@ def test_csv_unit_of_unknown_type_names_its_row(tmp_path):
 
 
 def test_csv_inventory_loads_like_unit_blocks(tmp_path):
-    (tmp_path / "fleet.csv").write_text("id,type,age,count\nV1,van,2,\nC1,cart,1,2\n", encoding="utf-8")
-    doc = base_doc()
-    doc.pop("unit")
-    doc["fleet"] = {"file": "fleet.csv"}
+    doc = csv_inventory_doc(tmp_path, "id,type,age,count\nV1,van,2,\nC1,cart,1,2\n")
     case = build_case(doc, base_dir=tmp_path)
     assert case.units == build_case(base_doc()).units
 
@@ -212,10 +215,7 @@ def test_missing_csv_is_not_also_reported_as_a_missing_inventory(tmp_path):
 
 
 def test_csv_with_a_header_only_is_reported_as_empty(tmp_path):
-    (tmp_path / "fleet.csv").write_text("id,type,age\n", encoding="utf-8")
-    doc = base_doc()
-    doc.pop("unit")
-    doc["fleet"] = {"file": "fleet.csv"}
+    doc = csv_inventory_doc(tmp_path, "id,type,age\n")
     with pytest.raises(CaseError) as err:
         build_case(doc, base_dir=tmp_path)
     (p,) = err.value.problems

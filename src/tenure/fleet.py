@@ -347,11 +347,8 @@ def _round_year(prog: CohortProgram, x: np.ndarray, k: int, case: Case, eager: i
                 break
             base[j] += 1
             rem -= 1
-        j = 0
-        while rem > 0:  # more sales than the LP planned buys: cheapest type
-            cheapest = int(np.argmin([g.price[k, t] for t in idx]))
-            base[cheapest] += rem
-            rem = 0
+        if rem > 0:  # more sales than the LP planned buys: the rest buy the cheapest type
+            base[int(np.argmin([g.price[k, t] for t in idx]))] += rem
         return {int(t): float(v) for t, v in zip(idx, base)}
 
     def year_spend(choice):
