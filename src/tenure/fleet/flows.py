@@ -1,0 +1,79 @@
+"""Integral cohort flows to unit paths, and the check that a plan fits every cap and limit."""
+
+from __future__ import annotations
+
+import numpy as np
+
+from .. import chain
+from ..model import Case
+from ..plan import PathGroup, Plan
+from .program import CohortProgram
+
+
+def flows_to_groups(prog: CohortProgram, x: np.ndarray, case: Case, uncapped_sols: dict) -> list[PathGroup]:
+    """Assign integral cohort flows to unit names and return their paths.
+
+    Within a state the units keep their inventory order and the first ones are
+    sold; the year's sold units, oldest state first, take the year's purchases
+    in the case order of types.
+    """
+    H = case.study.horizon
+    groups: dict = {}
+    for cls, ci in prog.cols.items():
+        g = prog.graphs[cls]
+        order = {}
+        at: dict[tuple[int, int], list[str]] = {}
+        origin = {}
+        for (t, a), names in prog.starts[cls].items():
+            at[(t, a)] = list(names)
+            for nm in names:
+                origin[nm] = (t, a)
+        for j, nm in enumerate(nm for u in case.units_of(cls) for nm in u.names()):
+            order[nm] = j
+        steps: dict[str, list] = {nm: [] for nm in order}
+        for k in range(H):
+            nxt: dict[tuple[int, int], list[str]] = {}
+            sold: list[tuple[int, int, str]] = []
+            for (t, a) in sorted(at, key=lambda s: (-s[1], s[0])):
+                names = sorted(at[(t, a)], key=order.__getitem__)
+                js = int(ci.sell[k][t, a]) if a < ci.sell.shape[2] else -1
+                n_sell = int(round(x[js])) if js >= 0 else 0
+                for nm in names[:n_sell]:
+                    sold.append((t, a, nm))
+                for nm in names[n_sell:]:
+                    steps[nm].append(chain.Step(k, t, a, chain.KEEP))
+                    nxt.setdefault((t, a + 1), []).append(nm)
+            buys = []
+            for t2 in range(len(g.types)):
+                jb = int(ci.buy[k][t2])
+                if jb >= 0:
+                    buys.extend([t2] * int(round(x[jb])))
+            if len(buys) != len(sold):
+                raise RuntimeError(f"cohort flows do not balance in {cls} {case.study.start_year + k}")
+            for (t, a, nm), t2 in zip(sold, buys):
+                steps[nm].append(chain.Step(k, t, a, t2))
+                nxt.setdefault((t2, 1), []).append(nm)
+            at = nxt
+        sol = uncapped_sols[cls]
+        for nm, st in steps.items():
+            key = (cls, tuple(st))
+            if key not in groups:
+                groups[key] = [st, [], origin[nm], chain.flexibility(sol, st)]
+            groups[key][1].append(nm)
+    return [PathGroup(class_=cls, steps=tuple(st), units=tuple(names), start=start, flex=tuple(flex))
+            for (cls, _), (st, names, start, flex) in groups.items()]
+
+
+def fits_caps(plan: Plan, case: Case) -> bool:
+    """True when a plan respects every cap and limit."""
+    for y in plan.years:
+        if y.slack is not None and y.slack < -1e-6:
+            return False
+    for lim in case.limits:
+        for k in range(case.study.horizon):
+            n = sum(1 for u in plan.units if u.class_ == lim.class_
+                    for e in u.events if e.year == case.study.start_year + k)
+            if n > lim.max_buys_per_year:
+                return False
+    return True
+
