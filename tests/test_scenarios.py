@@ -28,9 +28,10 @@ from hypothesis import strategies as st
 
 from tenure import scenarios as sc
 from tenure.case import CaseError, build_case, load_case
-from tenure.cli import main
+from tenure.cli import main, parse_vary
 from tenure.model import Scenario, Uncertain
 from tenure.parallel import Progress
+from tenure.report.compare import compare_text
 from tenure.solve import solve
 
 from casekit import DEMO, UNCAPPED, to_toml
@@ -305,7 +306,7 @@ def test_safe_now_is_the_first_year_action_shared_by_every_plan(fleet_compare):
 def test_compare_text_answers_cost_and_safe_purchases(fleet_compare):
     # source: issue 5 acceptance: one output tells the cost of the late scenario and the
     # purchases of this year that stay right either way
-    out = sc.compare_text(fleet_compare)
+    out = compare_text(fleet_compare)
     late = next(r for r in fleet_compare["scenarios"] if r["id"] == "late")
     assert f"{late['present_cost']:,.0f}" in out and f"{late['difference']:+,.0f}" in out
     assert "Safe to commit now" in out and "replace T1#1 with diesel" in out
@@ -321,7 +322,7 @@ def test_grid_sweep_quantiles_follow_a_linear_cost_exactly():
     case = build_case(linear_doc())
     a, b = linear_coefficients()
     assert b > 0
-    doc = sc.sweep(case, axes=[sc.parse_vary("asset_type.x.price=8000:12000:9")])
+    doc = sc.sweep(case, axes=[parse_vary("asset_type.x.price=8000:12000:9")])
     for q, got in doc["present_cost"]["quantiles"].items():
         assert got == pytest.approx(a + b * (8000 + int(q) / 100 * 4000), abs=0.006)
     (s,) = doc["sensitivity"]
@@ -369,7 +370,7 @@ def test_draws_respect_their_distributions():
 
 def test_whole_number_fields_are_rounded_in_sweeps(fleet):
     # source: issue 5 path list (buy_from is a calendar year); tenure.case refuses fractional years
-    axis = sc.parse_vary("asset_type.electric.buy_from=2031:2036:4")
+    axis = parse_vary("asset_type.electric.buy_from=2031:2036:4")
     assert axis.values() == [2031, 2033, 2034, 2036]
     assert all(type(v) is int for v in axis.values())
 
@@ -380,7 +381,7 @@ def test_whole_number_fields_are_rounded_in_sweeps(fleet):
 def test_bad_vary_syntax_is_refused(text):
     # source: issue 5 (--vary PATH=LOW:HIGH:STEPS)
     with pytest.raises(ValueError, match="--vary"):
-        sc.parse_vary(text)
+        parse_vary(text)
 
 
 # ---------------------------------------------------------------------------

@@ -8,6 +8,7 @@ from __future__ import annotations
 
 import argparse
 import json
+import math
 import sys
 from pathlib import Path
 
@@ -118,15 +119,56 @@ def cmd_policy(args) -> int:
 
 
 # ---------------------------------------------------------------------------
+def run_options(solver: str, time_limit: float, gap: float, workers: int) -> dict:
+    """Checked solver options of ``compare``/``sweep``; ValueError with a one-line message otherwise."""
+    if not (time_limit > 0):
+        raise ValueError(f"--time-limit {time_limit!r}: must be a number of seconds > 0")
+    if not (0 <= gap < 1):
+        raise ValueError(f"--gap {gap!r}: must be a fraction in [0, 1), e.g. 0.005")
+    if workers < 1:
+        raise ValueError(f"--workers {workers!r}: must be a whole number ≥ 1")
+    return {"solver": solver, "time_limit": float(time_limit), "gap": float(gap)}
+
+
+VARY_SYNTAX = "PATH=LOW:HIGH:STEPS, e.g. asset_type.rt-bev.price_change=-0.07:-0.02:6"
+
+
+def parse_vary(text: str):
+    """``PATH=LOW:HIGH:STEPS`` → :class:`tenure.scenarios.Axis`; ValueError with a one-line message otherwise."""
+    from .scenarios import Axis
+
+    path, eq, rng = text.partition("=")
+    parts = rng.split(":")
+    if not eq or not path.strip() or len(parts) != 3:
+        raise ValueError(f"--vary {text!r}: expected {VARY_SYNTAX}")
+    try:
+        low, high = float(parts[0]), float(parts[1])
+    except ValueError:
+        raise ValueError(f"--vary {text!r}: LOW and HIGH must be numbers ({VARY_SYNTAX})") from None
+    try:
+        steps = int(parts[2])
+    except ValueError:
+        raise ValueError(f"--vary {text!r}: STEPS must be a whole number ≥ 2 ({VARY_SYNTAX})") from None
+    if not (math.isfinite(low) and math.isfinite(high)):
+        raise ValueError(f"--vary {text!r}: LOW and HIGH must be finite numbers")
+    if steps < 2 and low != high:
+        raise ValueError(f"--vary {text!r}: STEPS must be a whole number ≥ 2 ({VARY_SYNTAX})")
+    if low > high:
+        raise ValueError(f"--vary {text!r}: LOW must not be above HIGH")
+    return Axis(path.strip(), low, high, max(steps, 1))
+
+
+
 def cmd_compare(args) -> int:
     from . import scenarios as sc
     from .parallel import ClusterError
+    from .report import compare as report_compare
 
     case = _case(args.case)
     extra = sc.read_scenario_file(args.scenarios, case)[0] if args.scenarios else []
     wanted = [w.strip() for item in (args.scenario or []) for w in item.split(",") if w.strip()]
     try:
-        options = sc.run_options(args.solver, args.time_limit, args.gap, args.workers)
+        options = run_options(args.solver, args.time_limit, args.gap, args.workers)
         chosen = sc.select_scenarios(case, wanted, extra)
     except ValueError as exc:
         raise UsageError(str(exc)) from None
@@ -138,9 +180,9 @@ def cmd_compare(args) -> int:
                          progress=not args.quiet)
     except ClusterError as exc:
         raise UsageError(str(exc)) from None
-    print(sc.compare_text(doc))
+    print(report_compare.compare_text(doc))
     if args.out:
-        paths = sc.write_compare(doc, case, args.out)
+        paths = report_compare.write_compare(doc, case, args.out)
         print(f"\nwritten to {args.out}/: " + ", ".join(Path(p).name for p in paths))
     print(text.CAUTION)
     base = doc["scenarios"][0]
@@ -150,10 +192,11 @@ def cmd_compare(args) -> int:
 def cmd_sweep(args) -> int:
     from . import scenarios as sc
     from .parallel import ClusterError
+    from .report import sweep as report_sweep
 
     case = _case(args.case)
     try:
-        options = sc.run_options(args.solver, args.time_limit, args.gap, args.workers)
+        options = run_options(args.solver, args.time_limit, args.gap, args.workers)
     except ValueError as exc:
         raise UsageError(str(exc)) from None
     if args.vary and args.samples is not None:
@@ -164,14 +207,14 @@ def cmd_sweep(args) -> int:
     if args.scenarios:
         uncertain += sc.read_scenario_file(args.scenarios, case)[1]
     try:
-        axes = [sc.parse_vary(v) for v in args.vary or []]
+        axes = [parse_vary(v) for v in args.vary or []]
         doc = sc.sweep(case, axes=axes, samples=args.samples, seed=args.seed, uncertain=uncertain,
                        options=options, workers=args.workers, cluster=args.cluster, progress=not args.quiet)
     except (ValueError, ClusterError) as exc:
         raise UsageError(str(exc)) from None
-    print(sc.sweep_text(doc))
+    print(report_sweep.sweep_text(doc))
     if args.out:
-        paths = sc.write_sweep(doc, args.out)
+        paths = report_sweep.write_sweep(doc, args.out)
         print(f"\nwritten to {args.out}/: " + ", ".join(Path(p).name for p in paths))
     print(text.CAUTION)
     return 0
@@ -211,7 +254,7 @@ def build_parser() -> argparse.ArgumentParser:
     c.add_argument("--type", help="held type (default: every type of the class)")
     c.set_defaults(func=cmd_policy)
 
-    def run_options(c):
+    def solve_options(c):
         c.add_argument("--out", help="folder for the JSON and CSV results (default: print only)")
         c.add_argument("--workers", type=int, default=1, help="local worker processes (1)")
         c.add_argument("--cluster", metavar="ADDRESS",
@@ -226,7 +269,7 @@ def build_parser() -> argparse.ArgumentParser:
     c.add_argument("--scenario", action="append", metavar="ID",
                    help="scenario id to compare (repeat, or a,b; default: every scenario)")
     c.add_argument("--scenarios", metavar="FILE", help="TOML file of extra [[scenario]] blocks")
-    run_options(c)
+    solve_options(c)
     c.set_defaults(func=cmd_compare)
 
     c = sub.add_parser("sweep", help="present cost and first-year decisions over a grid or Monte Carlo draws")
@@ -236,7 +279,7 @@ def build_parser() -> argparse.ArgumentParser:
     c.add_argument("--samples", type=int, metavar="N", help="Monte Carlo draws of the [[uncertain]] inputs")
     c.add_argument("--seed", type=int, default=0, help="seed of the draws (0)")
     c.add_argument("--scenarios", metavar="FILE", help="TOML file of extra [[uncertain]] blocks")
-    run_options(c)
+    solve_options(c)
     c.set_defaults(func=cmd_sweep)
     return p
 
