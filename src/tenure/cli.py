@@ -179,14 +179,13 @@ def cmd_compare(args) -> int:
         doc = sc.compare(case, chosen, options=options, workers=args.workers, cluster=args.cluster,
                          progress=not args.quiet)
     except ClusterError as exc:
-        raise UsageError(str(exc)) from None
+        raise UsageError(f"--cluster {args.cluster}: {exc}") from None
     print(report_compare.compare_text(doc))
     if args.out:
         paths = report_compare.write_compare(doc, case, args.out)
         print(f"\nwritten to {args.out}/: " + ", ".join(Path(p).name for p in paths))
     print(text.CAUTION)
-    base = doc["scenarios"][0]
-    return EXIT_INFEASIBLE if base["status"] == "infeasible" else 0
+    return EXIT_INFEASIBLE if doc.base.status == "infeasible" else 0
 
 
 def cmd_sweep(args) -> int:
@@ -203,6 +202,8 @@ def cmd_sweep(args) -> int:
         raise UsageError("give either --vary (a grid) or --samples (Monte Carlo), not both")
     if not args.vary and args.samples is None:
         raise UsageError("nothing to sweep: give --vary PATH=LOW:HIGH:STEPS or --samples N")
+    if args.samples is not None and args.samples < 1:
+        raise UsageError(f"--samples {args.samples}: must be a whole number ≥ 1")
     uncertain = list(case.uncertain)
     if args.scenarios:
         uncertain += sc.read_scenario_file(args.scenarios, case)[1]
@@ -210,8 +211,10 @@ def cmd_sweep(args) -> int:
         axes = [parse_vary(v) for v in args.vary or []]
         doc = sc.sweep(case, axes=axes, samples=args.samples, seed=args.seed, uncertain=uncertain,
                        options=options, workers=args.workers, cluster=args.cluster, progress=not args.quiet)
-    except (ValueError, ClusterError) as exc:
+    except ValueError as exc:
         raise UsageError(str(exc)) from None
+    except ClusterError as exc:
+        raise UsageError(f"--cluster {args.cluster}: {exc}") from None
     print(report_sweep.sweep_text(doc))
     if args.out:
         paths = report_sweep.write_sweep(doc, args.out)
@@ -256,9 +259,11 @@ def build_parser() -> argparse.ArgumentParser:
 
     def solve_options(c):
         c.add_argument("--out", help="folder for the JSON and CSV results (default: print only)")
-        c.add_argument("--workers", type=int, default=1, help="local worker processes (1)")
+        c.add_argument("--workers", type=int, default=1,
+                       help="worker processes: local processes, or those of the cluster --cluster local starts (1)")
         c.add_argument("--cluster", metavar="ADDRESS",
-                       help="send the solves to a running Dask scheduler, e.g. tcp://scheduler-host:8786")
+                       help="'local' to start a Dask cluster of --workers processes here, or the address of a "
+                            "running Dask scheduler, e.g. tcp://scheduler-host:8786")
         c.add_argument("--solver", choices=("highs", "cbc"), default="highs", help="integer-program solver (highs)")
         c.add_argument("--time-limit", type=float, default=120.0, help="seconds per capped solve (120)")
         c.add_argument("--gap", type=float, default=0.005, help="relative optimality gap to stop at (0.005)")

@@ -10,13 +10,16 @@ Renderers of comparisons and sweeps (text, CSV, HTML) live in :mod:`tenure.repor
 command-line option parsing in :mod:`tenure.cli`.
 """
 
-from .compare import BASE_NOTE, compare, select_scenarios
+from .compare import BASE_NOTE, Comparison, EarlyDifference, SafeAction, ScenarioResult, compare, select_scenarios
 from .overrides import (INTEGER_FIELDS, SCENARIO_FILE_KEYS, apply_overrides, case_with, coerce,
                         read_scenario_file, valid_paths)
-from .recost import CAP_TOL, Recost, recost, regret_table
-from .sweep import QUANTILES, Axis, draw, sweep
+from .recost import CAP_TOL, Recost, RegretTable, recost, regret_table
+from .sweep import (QUANTILES, Axis, CostSummary, Sensitivity, Sweep, SweepBase, SweepDraw, SweepInput, draw,
+                    sweep)
 from .tasks import first_year_actions, make_task, run_task
 
-__all__ = ["BASE_NOTE", "CAP_TOL", "INTEGER_FIELDS", "QUANTILES", "SCENARIO_FILE_KEYS", "Axis", "Recost",
+__all__ = ["BASE_NOTE", "CAP_TOL", "INTEGER_FIELDS", "QUANTILES", "SCENARIO_FILE_KEYS", "Axis", "Comparison",
+           "CostSummary", "EarlyDifference", "Recost", "RegretTable", "SafeAction", "ScenarioResult", "Sensitivity",
+           "Sweep", "SweepBase", "SweepDraw", "SweepInput",
            "apply_overrides", "case_with", "coerce", "compare", "draw", "first_year_actions", "make_task",
            "read_scenario_file", "recost", "regret_table", "run_task", "select_scenarios", "sweep", "valid_paths"]

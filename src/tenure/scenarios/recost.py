@@ -158,15 +158,59 @@ def _window(t) -> str:
     return f"from {t.buy_from}" if t.buy_from is not None else f"until {t.buy_until}"
 
 
-def regret_table(ids: Sequence[str], plans: Mapping[str, Mapping | None], cases: Mapping[str, Case]) -> dict:
+@dataclass(frozen=True)
+class RegretTable:
+    """Every scenario's plan re-costed under every scenario (the ``"regret"`` part of ``compare.json``).
+
+    ``cost[i][j]``: present cost [money, cents] of the plan of scenario *i*
+    under scenario *j* (None when it cannot be laid on *j*);
+    ``regret[i][j] = cost[i][j] − best_under[j]`` (None where plan *i* breaks
+    a rule under *j*); ``breaks[i][j]``: the rules it breaks there;
+    ``max_regret[i]`` (None when the plan breaks somewhere);
+    ``least_max_regret``: the chosen plan, by ``rule``.
+    """
+
+    ids: tuple[str, ...]
+    cost: Mapping[str, Mapping[str, float | None]]
+    regret: Mapping[str, Mapping[str, float | None]]
+    breaks: Mapping[str, Mapping[str, tuple[str, ...]]]
+    best_under: Mapping[str, float | None]
+    max_regret: Mapping[str, float | None]
+    least_max_regret: str | None
+    rule: str
+
+    def matrix(self) -> list[list[float | None]]:
+        """``regret`` as rows (plans) × columns (scenarios), in ``ids`` order."""
+        return [[self.regret[i][j] for j in self.ids] for i in self.ids]
+
+    def frame(self):
+        """The regret matrix as a pandas DataFrame: index ``plan``, one column per scenario; NaN where it breaks."""
+        import pandas as pd
+
+        df = pd.DataFrame(self.matrix(), index=list(self.ids), columns=list(self.ids), dtype=float)
+        df.index.name = "plan"
+        return df
+
+    def to_dict(self) -> dict:
+        ids = list(self.ids)
+        return {"scenarios": ids, "ids": ids, "matrix": self.matrix(),
+                "cost": {i: dict(r) for i, r in self.cost.items()}, "regret": {i: dict(r) for i, r in self.regret.items()},
+                "breaks": {i: {j: list(b) for j, b in r.items()} for i, r in self.breaks.items()},
+                "best_under": dict(self.best_under), "max_regret": dict(self.max_regret),
+                "least_max_regret": self.least_max_regret, "rule": self.rule}
+
+
+def regret_table(ids: Sequence[str], plans: Mapping[str, Mapping | None], cases: Mapping[str, Case]) -> RegretTable:
     """Every plan re-costed under every scenario; regret and the plan of least maximum regret.
 
-    Returns the ``"regret"`` part of ``compare.json``: ``cost[i][j]`` (plan of
-    scenario *i* under scenario *j*), ``regret[i][j]`` (None where plan *i*
-    breaks a rule under *j* or cannot be laid on it), ``breaks[i][j]``,
-    ``best_under[j]``, ``max_regret[i]`` (None when the plan breaks somewhere),
-    ``least_max_regret`` and ``rule``; ``ids`` and ``matrix`` (rows: plans,
-    columns: scenarios, in ``ids`` order) repeat ``regret`` as a list of lists.
+    Parameters
+    ----------
+    ids : sequence of str
+        Scenario ids, base first.
+    plans : mapping
+        Scenario id → ``Plan.to_dict()`` of its plan (None: no plan).
+    cases : mapping
+        Scenario id → its case.
     """
     cost: dict[str, dict[str, float | None]] = {}
     breaks: dict[str, dict[str, list[str]]] = {}
@@ -200,11 +244,10 @@ def regret_table(ids: Sequence[str], plans: Mapping[str, Mapping | None], cases:
                 "of least maximum regret where it can be carried out, is chosen")
     else:
         rule = "least maximum regret among the plans that break no rule under any scenario"
-    rounded = _round_nested(regret)
-    return {"scenarios": list(ids), "ids": list(ids), "matrix": [[rounded[i][j] for j in ids] for i in ids],
-            "cost": _round_nested(cost), "regret": rounded,
-            "breaks": breaks, "best_under": {j: _r(x) for j, x in best.items()},
-            "max_regret": {i: _r(x) for i, x in max_regret.items()}, "least_max_regret": choice, "rule": rule}
+    return RegretTable(ids=tuple(ids), cost=_round_nested(cost), regret=_round_nested(regret),
+                       breaks={i: {j: tuple(b) for j, b in row.items()} for i, row in breaks.items()},
+                       best_under={j: _r(x) for j, x in best.items()},
+                       max_regret={i: _r(x) for i, x in max_regret.items()}, least_max_regret=choice, rule=rule)
 
 
 

@@ -11,7 +11,8 @@ from typing import Any, Mapping
 
 from ..case import CaseError, build_case
 from ..model import Case
-from ..parallel import Progress, run_tasks
+from ..parallel import run_tasks
+from ..progress import bar
 from .overrides import SCENARIO_FILE_KEYS, apply_overrides
 
 
@@ -62,11 +63,9 @@ def run_task(task: Mapping) -> dict:
 
 
 def solve_all(tasks, *, workers, cluster, label, progress) -> list[dict]:
-    bar = Progress(len(tasks), label, enabled=bool(progress))
-    try:
-        return run_tasks(run_task, tasks, workers=workers, cluster=cluster, progress=bar)
-    finally:
-        bar.close()
+    """:func:`run_task` over ``tasks`` on the chosen back end, in task order, with a progress bar."""
+    with bar(len(tasks), label, enabled=bool(progress)) as b:
+        return run_tasks(run_task, tasks, workers=workers, cluster=cluster, progress=b)
 
 
 
