@@ -87,16 +87,16 @@ def cmd_plan(args) -> int:
     plan = solve(case, solver=args.solver, time_limit=args.time_limit, gap=args.gap, progress=not args.quiet)
     out = Path(args.out)
     written = [p.name for p in write_plan(plan, out)]
-    written += _extra_writers(plan, case, out)
+    written += _extra_writers(plan, case, out, progress=not args.quiet)
     print(text.plan_summary(plan, case, str(out), written))
     return EXIT_INFEASIBLE if plan.status in ("infeasible", "unsolved") else 0
 
 
-def _extra_writers(plan, case, out: Path) -> list[str]:
+def _extra_writers(plan, case, out: Path, progress: bool = True) -> list[str]:
     """Human-facing files (report, spreadsheet); returns their names."""
     from .report import documents
 
-    paths = documents.write_all(plan, case, out) or []
+    paths = documents.write_all(plan, case, out, progress=progress) or []
     return [Path(p).name for p in paths]
 
 

@@ -135,9 +135,17 @@ def recost(plan_dict: Mapping, case: Case) -> Recost:
         else:
             a_end = min(a, t.max_age)
             total += v[H] * life.continuing_cost(t, a_end, y_end - a_end, chain_costs[t.class_], rate, y0, y_end)
+    _budget_breaks(case, capital, proceeds, buys, broken)
+    msgs = tuple(m if n == 1 or "cap" in m or "limit" in m else f"{m} ({n} units)"
+                 for m, n in sorted(broken.items(), key=lambda kv: kv[0][:4]))
+    return Recost(float(total), msgs)
+
+
+def _budget_breaks(case: Case, capital, proceeds, buys, broken: Counter) -> None:
+    """Count in ``broken`` each year whose spend is over its cap or whose purchases of a class are over its limit."""
     b = case.budget
-    for k in range(H):
-        y = y0 + k
+    for k in range(case.study.horizon):
+        y = case.study.start_year + k
         cap = b.cap_for(y) if b is not None else None
         if cap is not None:
             spend = capital[k] - (proceeds[k] if b.basis == "net" else 0.0)
@@ -147,9 +155,6 @@ def recost(plan_dict: Mapping, case: Case) -> Recost:
             lim = case.limit_for(cls)
             if lim is not None and n > lim:
                 broken[f"{y}: buys {n} {cls} units, over the limit of {lim}"] += 1
-    msgs = tuple(m if n == 1 or "cap" in m or "limit" in m else f"{m} ({n} units)"
-                 for m, n in sorted(broken.items(), key=lambda kv: kv[0][:4]))
-    return Recost(float(total), msgs)
 
 
 def _window(t) -> str:
