@@ -2,8 +2,12 @@
 
 The page has no scripts, no external style sheet, font or image: the style is
 inline, the charts are inline SVG from :mod:`tenure.report.charts`, so the
-file can be mailed, archived or opened offline.  Functions here only build
-text; :mod:`tenure.report.documents` writes it.
+file can be mailed, archived or opened offline.  The pages are assembled by
+jinja2 templates (``templates/``, autoescaping on): ``page.html.j2`` holds the
+skeleton and style, ``plan.html.j2`` and ``compare.html.j2`` the sections;
+the functions here prepare their values (plan fragments are passed as
+``Markup``).  Functions here only build text; :mod:`tenure.report.documents`
+writes it.
 
 Look: one plain column, system fonts, grey rules; accents come from the
 Okabe–Ito colour-blind-safe set (blue ``#0072B2`` for headings and figures,
@@ -67,9 +71,9 @@ def e(x: Any) -> str:
     return escape("" if x is None else str(x))
 
 
-def table(head: Sequence[str], rows: Iterable[Sequence[Any]], num: Iterable[int] = (), cls_rows=None,
-          raw: bool = False, nowrap: Iterable[int] = ()) -> str:
-    """An HTML table.
+def table(head: Sequence[str], rows: Iterable[Sequence[Any]], num: Iterable[int] = (), raw: bool = False,
+          nowrap: Iterable[int] = ()) -> str:
+    """An HTML table of a plan-report fragment (the comparison page uses the template macro).
 
     Columns in ``num`` are right-aligned, those in ``nowrap`` kept on one line; cells are escaped unless ``raw``.
     """
@@ -79,9 +83,8 @@ def table(head: Sequence[str], rows: Iterable[Sequence[Any]], num: Iterable[int]
     out = ["<table><thead><tr>"]
     out += [f"<th{right if j in num else ''}>{e(h)}</th>" for j, h in enumerate(head)]
     out.append("</tr></thead><tbody>")
-    for i, row in enumerate(rows):
-        cls = cls_rows(i, row) if cls_rows else ""
-        out.append(f'<tr class="{cls}">' if cls else "<tr>")
+    for row in rows:
+        out.append("<tr>")
         for j, c in enumerate(row):
             cell = str(c) if raw else e(c)
             attr = right if j in num else (' class="nw"' if j in nw else "")
