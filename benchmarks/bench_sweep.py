@@ -96,7 +96,7 @@ def main(argv=None) -> int:
     print(f"- date: {started.strftime('%Y-%m-%d %H:%M %Z')}")
     print(f"- sweep: {args.draws} Monte Carlo draws, seed {args.seed}, {len(unc)} uncertain inputs, "
           f"{solves} solves per run ({kind}); median of {args.runs} run(s)")
-    print(f"- results identical for every worker count: yes (P50 {reference['present_cost']['quantiles']['50']:,.0f})")
+    print(f"- results identical for every worker count: yes (P50 {reference.present_cost.quantiles['50']:,.0f})")
     print()
     print("| workers | median wall time [s] | fastest [s] | solves per second | speed-up |")
     print("|---:|---:|---:|---:|---:|")

@@ -31,6 +31,7 @@ from tenure.cli import main
 from tenure.report import charts, documents, html
 from tenure.report.tables import write_plan
 from tenure.report.text import CAUTION
+from tenure.scenarios import Comparison, RegretTable, SafeAction, ScenarioResult
 from tenure.solve import solve, solve_uncapped
 
 openpyxl = pytest.importorskip("openpyxl")
@@ -287,7 +288,7 @@ def test_capped_report_renders_in_headless_chromium(capped_out, tmp_path):
 def test_compare_report_renders_in_headless_chromium(tmp_path):
     case = load_case(DEMO)
     out = tmp_path / "cmp"
-    documents.write_compare_report(compare_dict(), case, out)
+    documents.write_compare_report(comparison(), case, out)
     st = pixel_stats(screenshot(out / "report.html", tmp_path / "cmp.png"))
     assert st["non_white"] > 0.05 and st["colours"] > 100, st
 
@@ -380,25 +381,36 @@ def test_capped_workbook_has_caps_and_shadow_prices(capped, capped_out):
 # ---------------------------------------------------------------------------
 # comparison report
 # ---------------------------------------------------------------------------
-def compare_dict() -> dict:
+def comparison(without_plan: str | None = None) -> Comparison:
+    """A made-up comparison of three scenarios of the demo (``without_plan``: one scenario found no plan)."""
     ids = ["base", "bev-late", "high-rate"]
-    return {
-        "scenarios": [
-            {"id": sid, "note": f"note {sid}", "status": "optimal", "present_cost": 5.0e7 + 1.0e6 * j,
-             "difference": 1.0e6 * j, "capital_by_year": {str(2027 + k): 1.0e6 + 1.0e5 * ((k + j) % 4)
-                                                          for k in range(30)},
-             "buys_by_type": {"rt-bev": 40 + j, "bus-bev": 30 - j},
-             "first_year_actions": {"replace": ["RT-L14#1", "RT-L14#2"], "keep": 70 - j}}
-            for j, sid in enumerate(ids)],
-        "regret": {"ids": ids, "matrix": [[0.0 if i == k else 1.0e5 * (i + k) for k in range(3)] for i in range(3)],
-                   "least_max_regret": "bev-late"},
-        "safe_now": ["replace RT-L14#1 in 2027", {"unit": "PU-G09#1", "type": "pu-gasoline"}],
-    }
+    rows = []
+    for j, sid in enumerate(ids):
+        first = {"RT-L14#1": "replace:rt-diesel", "RT-L14#2": "replace:rt-diesel"}
+        first.update({f"PU-G09#{k}": "keep" for k in range(1, 71 - j)})
+        if sid == without_plan:
+            rows.append(ScenarioResult(sid, f"note {sid}", {}, "infeasible", None, None, None, "no plan: limits",
+                                       {}, {}, {}))
+            continue
+        rows.append(ScenarioResult(sid, f"note {sid}", {}, "optimal", 5.0e7 + 1.0e6 * j, 1.0e6 * j, 0.0, "",
+                                   {str(2027 + k): 1.0e6 + 1.0e5 * ((k + j) % 4) for k in range(30)},
+                                   {"rt-bev": 40 + j, "bus-bev": 30 - j}, first))
+    m = {i: {k: 0.0 if a == b else 1.0e5 * (a + b) for b, k in enumerate(ids)} for a, i in enumerate(ids)}
+    breaks = {i: {k: () for k in ids} for i in ids}
+    if without_plan:
+        for k in ids:
+            m[without_plan][k] = None
+            breaks[without_plan][k] = ("no plan",)
+    regret = RegretTable(tuple(ids), cost=m, regret=m, breaks=breaks, best_under={k: 5.0e7 for k in ids},
+                         max_regret={i: max(m[i].values()) for i in ids if i != without_plan},
+                         least_max_regret="bev-late", rule="least maximum regret among the plans that break no rule")
+    safe = (SafeAction("RT-L14#1", "replace:rt-diesel"), SafeAction("PU-G09#1", "keep"))
+    return Comparison("quillmere-fleet.toml", "Quillmere", 2027, 30, tuple(rows), regret, safe, tuple(ids), ())
 
 
 def test_compare_report_has_costs_profiles_and_regret(tmp_path):
     case = load_case(DEMO)
-    path = documents.write_compare_report(compare_dict(), case, tmp_path)
+    path = documents.write_compare_report(comparison(), case, tmp_path)
     assert path == tmp_path / "report.html"
     page = path.read_text(encoding="utf-8")
     assert tuple(figures(page)) == charts.COMPARE_CHARTS and page.count("<svg") == 2
@@ -407,18 +419,21 @@ def test_compare_report_has_costs_profiles_and_regret(tmp_path):
     assert regret.count("<tr") == 4                       # header + 3 plans
     assert '<tr class="best"><td>bev-late</td>' in regret
     assert "300,000" in regret                            # row maximum of bev-late
-    assert "replace RT-L14#1 in 2027" in page and "PU-G09#1" in page
+    decisions = page[page.index('id="decisions"'):page.index('id="assumptions"')]
+    assert "replace with rt-diesel" in decisions and "RT-L14#1" in decisions and "PU-G09#1" in decisions
     assert "money in constant 2027 currency" in figures(page)["chart-compare-capital"]
     assert html.e(CAUTION) in page
 
 
-@pytest.mark.parametrize("cmp", [{}, {"scenarios": [{"id": "x"}]}, {"scenarios": [{}], "regret": {}},
-                                 {"scenarios": "nonsense", "regret": {"matrix": [[1, "a"], [None]]}, "safe_now": None},
-                                 {"scenarios": [{"id": "y", "present_cost": "n/a", "capital_by_year": {"y": 1}}]}])
-def test_compare_report_tolerates_missing_keys(cmp, tmp_path):
+def test_compare_report_of_a_scenario_without_a_plan(tmp_path):
+    # a scenario whose limits leave no plan (status infeasible): no bar, no line, its regret row breaks
     case = load_case(UNCAPPED)
-    page = documents.write_compare_report(cmp, case, tmp_path).read_text(encoding="utf-8")
+    page = documents.write_compare_report(comparison("high-rate"), case, tmp_path).read_text(encoding="utf-8")
     assert tuple(figures(page)) == charts.COMPARE_CHARTS
+    regret = page[page.index('id="regret"'):page.index('id="decisions"')]
+    assert regret.count("breaks a rule") == 3 + 1 and 'title="no plan"' in regret
+    scen = page[page.index('id="scenarios"'):page.index('id="charts"')]
+    assert "infeasible" in scen and "—" in scen
 
 
 # ---------------------------------------------------------------------------

@@ -28,9 +28,10 @@ from hypothesis import strategies as st
 
 from tenure import scenarios as sc
 from tenure.case import CaseError, build_case, load_case
-from tenure.cli import main
+from tenure.cli import main, parse_vary
 from tenure.model import Scenario, Uncertain
-from tenure.parallel import Progress
+from tenure.progress import bar
+from tenure.report.compare import compare_text
 from tenure.solve import solve
 
 from casekit import DEMO, UNCAPPED, to_toml
@@ -234,12 +235,70 @@ def test_recost_refuses_a_schedule_of_another_horizon(fleet):
     assert r.cost is None and not r.feasible
 
 
+def continuing_doc() -> dict:
+    """One unit near its max age, one type, prices frozen (no price change), continuing end value."""
+    return {
+        "study": {"title": "continuing", "start_year": START, "horizon": 3, "discount_rate": 0.05,
+                  "end_value": "continuing"},
+        "asset_type": [{"id": "x", "class": "x", "price": 10000, "max_age": 5,
+                        "om": {"first": 1000, "gradient": 600}, "salvage": {"retain": 0.7}}],
+        "unit": [{"id": "U", "type": "x", "age": 4}],
+    }
+
+
+def test_recost_under_the_continuing_end_value_equals_hand_computation():
+    # source: closed form from docs/conventions.md ("continuing": each unit held at H is kept n more
+    # years, 0 ≤ n ≤ max_age − age, then sold, and an endless chain of the best challenger starts,
+    # whose cost at the start is the capitalised cost EAC*/i) and common practice (the capitalised
+    # cost of an endless chain of N-year cycles is PW(cycle)/(1 − v^N), equal to EAC(N)/i).  Prices
+    # do not change, so "frozen at the end" is the base price; computed here from the closed forms
+    # (P, retain^a·P, first + gradient·(a−1)), not through tenure.curves or tenure.life.
+    case = build_case(continuing_doc())
+    plan = solve(case).to_dict()
+    other = sc.case_with(case, {"asset_type.x.om.gradient": 900, "study.discount_rate": 0.07})
+    price, retain, first, grad, max_age, rate, horizon = 10000.0, 0.7, 1000.0, 900.0, 5, 0.07, 3
+    v = 1 / (1 + rate)
+
+    def om(a):  # O&M of service year a
+        return first + grad * (a - 1)
+
+    def value(a):  # market value at age a
+        return retain ** a * price
+
+    def cycle(n):  # present worth at its start of buying, keeping n years, selling
+        return price + sum(om(a) * v ** a for a in range(1, n + 1)) - value(n) * v ** n
+
+    chain = min(cycle(n) / (1 - v ** n) for n in range(1, max_age + 1))
+    events = {e["year"]: e["type"] for e in plan["units"][0]["events"]}
+    assert events, "the unit reaches its max age within the horizon: the plan must replace it"
+    total, age = 0.0, 4
+    for k in range(horizon):
+        if START + k in events:
+            total += v ** k * (price - value(age)) + v ** (k + 1) * om(1)
+            age = 1
+        else:
+            total += v ** (k + 1) * om(age + 1)
+            age += 1
+    cont = min(sum(om(age + j) * v ** j for j in range(1, n + 1)) + v ** n * (chain - value(age + n))
+               for n in range(0, max_age - age + 1))
+    want = total + v ** horizon * cont
+    r = sc.recost(plan, other)
+    assert r.feasible and r.cost == pytest.approx(want, rel=1e-10)
+    # the base case's own schedule under its own case costs the plan's present cost (same formula)
+    assert sc.recost(plan, case).cost == pytest.approx(plan["present_cost"], abs=0.006)
+
+
 # ---------------------------------------------------------------------------
 # compare and regret
 # ---------------------------------------------------------------------------
 @pytest.fixture(scope="module")
-def fleet_compare(fleet):
+def fleet_comparison(fleet):
     return sc.compare(fleet, list(fleet.scenarios))
+
+
+@pytest.fixture(scope="module")
+def fleet_compare(fleet_comparison):
+    return fleet_comparison.to_dict()
 
 
 def test_compare_figures_equal_separate_solves(fleet, fleet_compare):
@@ -302,10 +361,10 @@ def test_safe_now_is_the_first_year_action_shared_by_every_plan(fleet_compare):
     assert {"unit": "T1#1", "action": "replace:diesel"} in fleet_compare["safe_now"]
 
 
-def test_compare_text_answers_cost_and_safe_purchases(fleet_compare):
+def test_compare_text_answers_cost_and_safe_purchases(fleet_comparison, fleet_compare):
     # source: issue 5 acceptance: one output tells the cost of the late scenario and the
     # purchases of this year that stay right either way
-    out = sc.compare_text(fleet_compare)
+    out = compare_text(fleet_comparison)
     late = next(r for r in fleet_compare["scenarios"] if r["id"] == "late")
     assert f"{late['present_cost']:,.0f}" in out and f"{late['difference']:+,.0f}" in out
     assert "Safe to commit now" in out and "replace T1#1 with diesel" in out
@@ -321,7 +380,7 @@ def test_grid_sweep_quantiles_follow_a_linear_cost_exactly():
     case = build_case(linear_doc())
     a, b = linear_coefficients()
     assert b > 0
-    doc = sc.sweep(case, axes=[sc.parse_vary("asset_type.x.price=8000:12000:9")])
+    doc = sc.sweep(case, axes=[parse_vary("asset_type.x.price=8000:12000:9")]).to_dict()
     for q, got in doc["present_cost"]["quantiles"].items():
         assert got == pytest.approx(a + b * (8000 + int(q) / 100 * 4000), abs=0.006)
     (s,) = doc["sensitivity"]
@@ -340,7 +399,7 @@ def test_monte_carlo_quantiles_map_through_the_linear_cost():
     case = build_case(linear_doc())
     a, b = linear_coefficients()
     n = 400
-    doc = sc.sweep(case, samples=n, seed=11)
+    doc = sc.sweep(case, samples=n, seed=11).to_dict()
     prices = np.array([p["values"]["asset_type.x.price"] for p in doc["points"]])
     assert prices.min() >= 8000 and prices.max() <= 12000
     emp = np.quantile(prices, [q / 100 for q in sc.QUANTILES])
@@ -350,8 +409,8 @@ def test_monte_carlo_quantiles_map_through_the_linear_cost():
         theory = 8000 + qq * 4000
         assert abs(pq - theory) < 4 * math.sqrt(qq * (1 - qq) / n) * 4000
     # seeded: the same seed gives the same draws, another seed other draws
-    assert sc.sweep(case, samples=n, seed=11) == doc
-    assert sc.sweep(case, samples=5, seed=12)["points"][0]["values"] != doc["points"][0]["values"]
+    assert sc.sweep(case, samples=n, seed=11).to_dict() == doc
+    assert sc.sweep(case, samples=5, seed=12).points[0].values != doc["points"][0]["values"]
 
 
 def test_draws_respect_their_distributions():
@@ -369,7 +428,7 @@ def test_draws_respect_their_distributions():
 
 def test_whole_number_fields_are_rounded_in_sweeps(fleet):
     # source: issue 5 path list (buy_from is a calendar year); tenure.case refuses fractional years
-    axis = sc.parse_vary("asset_type.electric.buy_from=2031:2036:4")
+    axis = parse_vary("asset_type.electric.buy_from=2031:2036:4")
     assert axis.values() == [2031, 2033, 2034, 2036]
     assert all(type(v) is int for v in axis.values())
 
@@ -380,7 +439,7 @@ def test_whole_number_fields_are_rounded_in_sweeps(fleet):
 def test_bad_vary_syntax_is_refused(text):
     # source: issue 5 (--vary PATH=LOW:HIGH:STEPS)
     with pytest.raises(ValueError, match="--vary"):
-        sc.parse_vary(text)
+        parse_vary(text)
 
 
 # ---------------------------------------------------------------------------
@@ -421,6 +480,48 @@ def test_dask_local_cluster_gives_identical_results(serial_results):
         assert sc.compare(case, list(case.scenarios), cluster=addr) == compare1
 
 
+def test_local_cluster_started_for_the_run_gives_identical_json():
+    # source: issue 9 (--cluster local starts a Dask local cluster of --workers processes; sweep.json
+    # byte-identical whatever the back end)
+    pytest.importorskip("distributed")
+    case = build_case(linear_doc())
+    one = sc.sweep(case, samples=4, seed=2)
+    assert [p.status for p in one.points] == ["optimal"] * 4
+    local = sc.sweep(case, samples=4, seed=2, workers=2, cluster="local")
+    assert json.dumps(local.to_dict(), indent=2) == json.dumps(one.to_dict(), indent=2)
+
+
+def test_cli_unreachable_scheduler_exits_2_with_a_clear_message(fleet_file, capsys):
+    # source: tenure.cli exit codes (2: bad input, one line, no traceback); nothing listens on port 9
+    # of the loopback interface (discard service, not run on test machines: common practice)
+    assert main(["sweep", str(fleet_file), "--vary", "study.discount_rate=0.04:0.08:2", "--cluster",
+                 "tcp://127.0.0.1:9", "--quiet"]) == 2
+    err = capsys.readouterr().err
+    assert "--cluster tcp://127.0.0.1:9: cannot reach a Dask scheduler" in err and "Traceback" not in err
+
+
+def test_frames_have_the_csv_columns(fleet, fleet_comparison):
+    # source: issue 9 (DataFrames with the same columns as compare.csv, sweep.csv and sensitivity.csv)
+    from tenure.report.compare import compare_csv
+    from tenure.report.sweep import sensitivity_csv, sweep_csv
+
+    df = fleet_comparison.scenarios_frame()
+    assert list(df.columns) == compare_csv(fleet_comparison).splitlines()[0].split(",")
+    assert list(df["id"]) == ["base", "late", "cheap", "dear-money"]
+    assert df.loc[1, "present_cost"] == fleet_comparison.scenario("late").present_cost
+    reg = fleet_comparison.regret_frame()
+    assert reg.loc["cheap", "cheap"] == 0.0 and math.isnan(reg.loc["base", "late"])  # base breaks under late
+    sw = sc.sweep(fleet, axes=[parse_vary("study.discount_rate=0.04:0.08:3")])
+    draws = sw.draws_frame()
+    assert list(draws.columns) == sweep_csv(sw).splitlines()[0].split(",")
+    assert list(draws["study.discount_rate"]) == [0.04, 0.06, 0.08]
+    assert list(draws["present_cost"]) == [p.present_cost for p in sw.points]
+    sens = sw.sensitivity_frame()
+    assert list(sens.columns) == sensitivity_csv(sw).splitlines()[0].split(",")
+    assert sens.loc[0, "swing"] == pytest.approx(abs(sens.loc[0, "cost_at_high"] - sens.loc[0, "cost_at_low"]),
+                                                 abs=0.011)
+
+
 # ---------------------------------------------------------------------------
 # capped cases (the fleet integer program)
 # ---------------------------------------------------------------------------
@@ -432,7 +533,7 @@ def test_compare_on_a_small_capped_case_equals_separate_solves():
     doc["budget"] = {"cap": 230000}
     doc["limit"] = [{"class": "truck", "max_buys_per_year": 2}]
     case = build_case(doc)
-    out = sc.compare(case, list(case.scenarios), options={"time_limit": 30})
+    out = sc.compare(case, list(case.scenarios), options={"time_limit": 30}).to_dict()
     for r in out["scenarios"]:
         sets = {} if r["id"] == "base" else case_scenario(case, r["id"]).set
         plan = solve(sc.case_with(case, sets), time_limit=30, progress=False)
@@ -534,19 +635,19 @@ def test_cli_bad_input_exits_2_with_a_clear_message(fleet_file, capsys, argv, fr
 def test_progress_bar_draws_only_on_a_terminal_after_the_delay():
     # source: issue 5 (a progress bar on stderr, only on a terminal, for anything over a second)
     quiet = io.StringIO()
-    p = Progress(3, "sweep", stream=quiet, delay=0.0)
-    p.advance(3)
-    p.close()
+    with bar(3, "sweep", stream=quiet, delay=0.0) as b:
+        b.update(3)
     assert quiet.getvalue() == ""  # not a terminal
     shown = io.StringIO()
-    p = Progress(4, "sweep", stream=shown, delay=0.0, interval=0.0, force=True)
-    p.advance(2)
-    p.advance(2)
-    p.close()
+    with bar(4, "sweep", stream=shown, delay=0.0, force=True) as b:
+        b.update(2)
+        b.refresh()
+        assert "2/4" in shown.getvalue()
+        b.update(2)
+        b.refresh()
     text = shown.getvalue()
-    assert "2/4" in text and "4/4" in text and "100%" in text and text.endswith("\n")
+    assert "sweep" in text and "4/4" in text and "100%" in text
     late = io.StringIO()
-    p = Progress(4, "sweep", stream=late, delay=60.0, force=True)
-    p.advance(4)
-    p.close()
+    with bar(4, "sweep", stream=late, delay=60.0, force=True) as b:
+        b.update(4)
     assert late.getvalue() == ""  # finished before the delay: nothing drawn

@@ -8,6 +8,7 @@ from __future__ import annotations
 
 import argparse
 import json
+import math
 import sys
 from pathlib import Path
 
@@ -87,16 +88,16 @@ def cmd_plan(args) -> int:
     plan = solve(case, solver=args.solver, time_limit=args.time_limit, gap=args.gap, progress=not args.quiet)
     out = Path(args.out)
     written = [p.name for p in write_plan(plan, out)]
-    written += _extra_writers(plan, case, out)
+    written += _extra_writers(plan, case, out, progress=not args.quiet)
     print(text.plan_summary(plan, case, str(out), written))
     return EXIT_INFEASIBLE if plan.status in ("infeasible", "unsolved") else 0
 
 
-def _extra_writers(plan, case, out: Path) -> list[str]:
+def _extra_writers(plan, case, out: Path, progress: bool = True) -> list[str]:
     """Human-facing files (report, spreadsheet); returns their names."""
     from .report import documents
 
-    paths = documents.write_all(plan, case, out) or []
+    paths = documents.write_all(plan, case, out, progress=progress) or []
     return [Path(p).name for p in paths]
 
 
@@ -119,15 +120,56 @@ def cmd_policy(args) -> int:
 
 
 # ---------------------------------------------------------------------------
+def run_options(solver: str, time_limit: float, gap: float, workers: int) -> dict:
+    """Checked solver options of ``compare``/``sweep``; ValueError with a one-line message otherwise."""
+    if not (time_limit > 0):
+        raise ValueError(f"--time-limit {time_limit!r}: must be a number of seconds > 0")
+    if not (0 <= gap < 1):
+        raise ValueError(f"--gap {gap!r}: must be a fraction in [0, 1), e.g. 0.005")
+    if workers < 1:
+        raise ValueError(f"--workers {workers!r}: must be a whole number ≥ 1")
+    return {"solver": solver, "time_limit": float(time_limit), "gap": float(gap)}
+
+
+VARY_SYNTAX = "PATH=LOW:HIGH:STEPS, e.g. asset_type.rt-bev.price_change=-0.07:-0.02:6"
+
+
+def parse_vary(text: str):
+    """``PATH=LOW:HIGH:STEPS`` → :class:`tenure.scenarios.Axis`; ValueError with a one-line message otherwise."""
+    from .scenarios import Axis
+
+    path, eq, rng = text.partition("=")
+    parts = rng.split(":")
+    if not eq or not path.strip() or len(parts) != 3:
+        raise ValueError(f"--vary {text!r}: expected {VARY_SYNTAX}")
+    try:
+        low, high = float(parts[0]), float(parts[1])
+    except ValueError:
+        raise ValueError(f"--vary {text!r}: LOW and HIGH must be numbers ({VARY_SYNTAX})") from None
+    try:
+        steps = int(parts[2])
+    except ValueError:
+        raise ValueError(f"--vary {text!r}: STEPS must be a whole number ≥ 2 ({VARY_SYNTAX})") from None
+    if not (math.isfinite(low) and math.isfinite(high)):
+        raise ValueError(f"--vary {text!r}: LOW and HIGH must be finite numbers")
+    if steps < 2 and low != high:
+        raise ValueError(f"--vary {text!r}: STEPS must be a whole number ≥ 2 ({VARY_SYNTAX})")
+    if low > high:
+        raise ValueError(f"--vary {text!r}: LOW must not be above HIGH")
+    return Axis(path.strip(), low, high, max(steps, 1))
+
+
+
 def cmd_compare(args) -> int:
     from . import scenarios as sc
     from .parallel import ClusterError
+    from .report import compare as report_compare
 
     case = _case(args.case)
     extra = sc.read_scenario_file(args.scenarios, case)[0] if args.scenarios else []
     wanted = [w.strip() for item in (args.scenario or []) for w in item.split(",") if w.strip()]
     try:
-        options = sc.run_options(args.solver, args.time_limit, args.gap, args.workers)
+        options = run_options(args.solver, args.time_limit, args.gap, args.workers)
         chosen = sc.select_scenarios(case, wanted, extra)
     except ValueError as exc:
         raise UsageError(str(exc)) from None
@@ -138,41 +180,45 @@ def cmd_compare(args) -> int:
         doc = sc.compare(case, chosen, options=options, workers=args.workers, cluster=args.cluster,
                          progress=not args.quiet)
     except ClusterError as exc:
-        raise UsageError(str(exc)) from None
-    print(sc.compare_text(doc))
+        raise UsageError(f"--cluster {args.cluster}: {exc}") from None
+    print(report_compare.compare_text(doc))
     if args.out:
-        paths = sc.write_compare(doc, case, args.out)
+        paths = report_compare.write_compare(doc, case, args.out)
         print(f"\nwritten to {args.out}/: " + ", ".join(Path(p).name for p in paths))
     print(text.CAUTION)
-    base = doc["scenarios"][0]
-    return EXIT_INFEASIBLE if base["status"] == "infeasible" else 0
+    return EXIT_INFEASIBLE if doc.base.status == "infeasible" else 0
 
 
 def cmd_sweep(args) -> int:
     from . import scenarios as sc
     from .parallel import ClusterError
+    from .report import sweep as report_sweep
 
     case = _case(args.case)
     try:
-        options = sc.run_options(args.solver, args.time_limit, args.gap, args.workers)
+        options = run_options(args.solver, args.time_limit, args.gap, args.workers)
     except ValueError as exc:
         raise UsageError(str(exc)) from None
     if args.vary and args.samples is not None:
         raise UsageError("give either --vary (a grid) or --samples (Monte Carlo), not both")
     if not args.vary and args.samples is None:
         raise UsageError("nothing to sweep: give --vary PATH=LOW:HIGH:STEPS or --samples N")
+    if args.samples is not None and args.samples < 1:
+        raise UsageError(f"--samples {args.samples}: must be a whole number ≥ 1")
     uncertain = list(case.uncertain)
     if args.scenarios:
         uncertain += sc.read_scenario_file(args.scenarios, case)[1]
     try:
-        axes = [sc.parse_vary(v) for v in args.vary or []]
+        axes = [parse_vary(v) for v in args.vary or []]
         doc = sc.sweep(case, axes=axes, samples=args.samples, seed=args.seed, uncertain=uncertain,
                        options=options, workers=args.workers, cluster=args.cluster, progress=not args.quiet)
-    except (ValueError, ClusterError) as exc:
+    except ValueError as exc:
         raise UsageError(str(exc)) from None
-    print(sc.sweep_text(doc))
+    except ClusterError as exc:
+        raise UsageError(f"--cluster {args.cluster}: {exc}") from None
+    print(report_sweep.sweep_text(doc))
     if args.out:
-        paths = sc.write_sweep(doc, args.out)
+        paths = report_sweep.write_sweep(doc, args.out)
         print(f"\nwritten to {args.out}/: " + ", ".join(Path(p).name for p in paths))
     print(text.CAUTION)
     return 0
@@ -212,11 +258,13 @@ def build_parser() -> argparse.ArgumentParser:
     c.add_argument("--type", help="held type (default: every type of the class)")
     c.set_defaults(func=cmd_policy)
 
-    def run_options(c):
+    def solve_options(c):
         c.add_argument("--out", help="folder for the JSON and CSV results (default: print only)")
-        c.add_argument("--workers", type=int, default=1, help="local worker processes (1)")
+        c.add_argument("--workers", type=int, default=1,
+                       help="worker processes: local processes, or those of the cluster --cluster local starts (1)")
         c.add_argument("--cluster", metavar="ADDRESS",
-                       help="send the solves to a running Dask scheduler, e.g. tcp://scheduler-host:8786")
+                       help="'local' to start a Dask cluster of --workers processes here, or the address of a "
+                            "running Dask scheduler, e.g. tcp://scheduler-host:8786")
         c.add_argument("--solver", choices=("highs", "cbc"), default="highs", help="integer-program solver (highs)")
         c.add_argument("--time-limit", type=float, default=120.0, help="seconds per capped solve (120)")
         c.add_argument("--gap", type=float, default=0.005, help="relative optimality gap to stop at (0.005)")
@@ -227,7 +275,7 @@ def build_parser() -> argparse.ArgumentParser:
     c.add_argument("--scenario", action="append", metavar="ID",
                    help="scenario id to compare (repeat, or a,b; default: every scenario)")
     c.add_argument("--scenarios", metavar="FILE", help="TOML file of extra [[scenario]] blocks")
-    run_options(c)
+    solve_options(c)
     c.set_defaults(func=cmd_compare)
 
     c = sub.add_parser("sweep", help="present cost and first-year decisions over a grid or Monte Carlo draws")
@@ -237,7 +285,7 @@ def build_parser() -> argparse.ArgumentParser:
     c.add_argument("--samples", type=int, metavar="N", help="Monte Carlo draws of the [[uncertain]] inputs")
     c.add_argument("--seed", type=int, default=0, help="seed of the draws (0)")
     c.add_argument("--scenarios", metavar="FILE", help="TOML file of extra [[uncertain]] blocks")
-    run_options(c)
+    solve_options(c)
     c.set_defaults(func=cmd_sweep)
     return p
 

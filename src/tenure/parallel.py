@@ -12,95 +12,30 @@ Back ends
 - ``workers > 1``: a :class:`concurrent.futures.ProcessPoolExecutor` whose
   processes are started fresh ("forkserver" where the platform has it, else
   "spawn"), so no thread state of this process is copied into them;
+- ``cluster="local"``: a Dask ``LocalCluster`` of ``workers`` single-threaded
+  worker processes is started for the run and closed after it;
 - ``cluster="tcp://host:port"``: the tasks go to an existing Dask
-  distributed scheduler through ``dask.distributed.Client(address)``; the
-  workers there need tenure installed.
+  distributed scheduler through ``dask.distributed.Client(address)`` (given
+  up after ``CONNECT_TIMEOUT`` seconds); the workers there need tenure installed.
 
-:class:`Progress` is the terminal progress bar used while the tasks run.
+``progress`` is any object with ``update(n)``, e.g. a :func:`tenure.progress.bar`.
 """
 
 from __future__ import annotations
 
+import logging
 import multiprocessing
 import os
-import sys
-import time
 from concurrent.futures import ProcessPoolExecutor, as_completed
 from typing import Any, Callable, Sequence
 
 
+#: the ``cluster`` value that starts a Dask cluster of local worker processes for the run
+LOCAL = "local"
+
+
 class ClusterError(Exception):
     """The Dask scheduler could not be reached or used (message is one line)."""
-
-
-# ---------------------------------------------------------------------------
-# progress bar
-# ---------------------------------------------------------------------------
-class Progress:
-    """A one-line progress bar on a terminal stream (stderr by default).
-
-    Nothing is drawn unless the stream is a terminal, and nothing is drawn
-    during the first ``delay`` seconds, so short runs and piped or captured
-    output stay clean.  Redraws are limited to ``interval`` seconds apart.
-    ``force=True`` draws on any stream (for tests).
-    """
-
-    WIDTH = 28
-
-    def __init__(self, total: int, label: str = "", *, stream=None, delay: float = 1.0,
-                 interval: float = 0.1, force: bool = False, enabled: bool = True):
-        self.total = max(int(total), 0)
-        self.label = label
-        self.stream = sys.stderr if stream is None else stream
-        self.delay = delay
-        self.interval = interval
-        self.done = 0
-        self.t0 = time.perf_counter()
-        self._last = 0.0
-        self._drawn = False
-        tty = False
-        try:
-            tty = bool(self.stream.isatty())
-        except (AttributeError, ValueError):
-            tty = False
-        self.enabled = enabled and (force or tty)
-
-    def advance(self, n: int = 1) -> None:
-        self.done += n
-        self._maybe_draw()
-
-    def _maybe_draw(self, final: bool = False) -> None:
-        if not self.enabled:
-            return
-        now = time.perf_counter()
-        elapsed = now - self.t0
-        if elapsed < self.delay:
-            return
-        if not final and self._drawn and now - self._last < self.interval:
-            return
-        self._last = now
-        self._drawn = True
-        self.stream.write("\r" + self.line(elapsed))
-        self.stream.flush()
-
-    def line(self, elapsed: float) -> str:
-        """The text of the bar after ``elapsed`` seconds."""
-        frac = self.done / self.total if self.total else 1.0
-        full = int(frac * self.WIDTH)
-        bar = "█" * full + ("▌" if frac * self.WIDTH - full >= 0.5 else "")
-        bar = bar.ljust(self.WIDTH, "·")
-        left = ""
-        if 0 < self.done < self.total:
-            left = f"  ~{elapsed / self.done * (self.total - self.done):.0f} s left"
-        head = f"{self.label} " if self.label else ""
-        return f"{head}[{bar}] {self.done}/{self.total} {frac:4.0%}  {elapsed:.0f} s{left}   "
-
-    def close(self) -> None:
-        """Draw the final state (if anything was drawn) and end the line."""
-        if self.enabled and self._drawn:
-            self._maybe_draw(final=True)
-            self.stream.write("\n")
-            self.stream.flush()
 
 
 # ---------------------------------------------------------------------------
@@ -122,7 +57,7 @@ def _context():
 
 
 def run_tasks(fn: Callable[[Any], Any], tasks: Sequence[Any], *, workers: int = 1, cluster: str | None = None,
-              progress: Progress | None = None) -> list[Any]:
+              progress=None) -> list[Any]:
     """``[fn(t) for t in tasks]``, computed on the chosen back end, in task order.
 
     Parameters
@@ -132,11 +67,13 @@ def run_tasks(fn: Callable[[Any], Any], tasks: Sequence[Any], *, workers: int = 
     tasks : sequence
         Picklable task descriptions.
     workers : int
-        Local worker processes (1: run in this process).  Ignored with ``cluster``.
+        Local worker processes (1: run in this process); with ``cluster="local"``
+        the number of worker processes of the local Dask cluster.
     cluster : str or None
-        Address of a running Dask distributed scheduler, e.g. ``"tcp://scheduler-host:8786"``.
-    progress : Progress or None
-        Advanced by one per finished task.
+        ``"local"`` (start a Dask ``LocalCluster`` for this run and close it after),
+        or the address of a running Dask distributed scheduler, e.g. ``"tcp://scheduler-host:8786"``.
+    progress : tqdm-like or None
+        ``update(1)`` per finished task.
 
     Raises
     ------
@@ -145,13 +82,13 @@ def run_tasks(fn: Callable[[Any], Any], tasks: Sequence[Any], *, workers: int = 
     """
     tasks = list(tasks)
     if cluster:
-        return _run_dask(fn, tasks, cluster, progress)
+        return _run_dask(fn, tasks, cluster, workers, progress)
     if workers <= 1 or len(tasks) <= 1:
         out = []
         for t in tasks:
             out.append(fn(t))
             if progress is not None:
-                progress.advance()
+                progress.update(1)
         return out
     results: list[Any] = [None] * len(tasks)
     with ProcessPoolExecutor(max_workers=min(workers, len(tasks)), mp_context=_context(),
@@ -160,25 +97,47 @@ def run_tasks(fn: Callable[[Any], Any], tasks: Sequence[Any], *, workers: int = 
         for f in as_completed(futs):
             results[futs[f]] = f.result()
             if progress is not None:
-                progress.advance()
+                progress.update(1)
     return results
 
 
-def _run_dask(fn, tasks, address: str, progress: Progress | None) -> list[Any]:
+#: seconds to wait for a Dask scheduler before giving up
+CONNECT_TIMEOUT = 5
+
+
+def _client(address: str, workers: int):
+    """A Dask client (and the local cluster it owns, or None) for ``address``; ClusterError when unreachable."""
     try:
-        from dask.distributed import Client
-        from dask.distributed import as_completed as dask_completed
+        from dask.distributed import Client, LocalCluster
     except ImportError as exc:  # pragma: no cover - distributed is a dependency
-        raise ClusterError(f"--cluster needs the 'distributed' package: {exc}") from None
+        raise ClusterError(f"a Dask cluster needs the 'distributed' package: {exc}") from None
+    if address == LOCAL:
+        # one single-threaded worker process per requested worker: the solves hold the GIL
+        try:
+            cluster = LocalCluster(n_workers=max(int(workers), 1), threads_per_worker=1, processes=True,
+                                   host="127.0.0.1", dashboard_address=None, silence_logs=logging.ERROR)
+        except Exception as exc:  # noqa: BLE001 - any start-up failure becomes one clear line
+            raise ClusterError(f"cannot start a local Dask cluster of {workers} worker(s): {exc}") from None
+        return Client(cluster, set_as_default=False), cluster
     try:
-        client = Client(address, timeout="15s", set_as_default=False)
-    except (OSError, TimeoutError, ValueError) as exc:
-        raise ClusterError(f"cannot reach the Dask scheduler at {address!r}: {exc}") from None
+        return Client(address, timeout=f"{CONNECT_TIMEOUT}s", set_as_default=False), None
+    except Exception as exc:  # noqa: BLE001 - OSError, TimeoutError, ValueError, comm errors alike
+        raise ClusterError(f"cannot reach a Dask scheduler at {address!r} within {CONNECT_TIMEOUT} s "
+                           f"({type(exc).__name__}: {exc}); give the address of a running scheduler, "
+                           f"e.g. tcp://scheduler-host:8786, or {LOCAL!r} to start one here") from None
+
+
+def _run_dask(fn, tasks, address: str, workers: int, progress) -> list[Any]:
+    from dask.distributed import as_completed as dask_completed
+
+    client, cluster = _client(address, workers)
     try:
         futures = client.map(fn, tasks, pure=False)
         for _ in dask_completed(futures, loop=client.loop):
             if progress is not None:
-                progress.advance()
+                progress.update(1)
         return client.gather(futures)
     finally:
         client.close()
+        if cluster is not None:
+            cluster.close()

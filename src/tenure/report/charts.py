@@ -541,20 +541,10 @@ def cap_cost_chart(plan, case: Case) -> str | None:
 # ---------------------------------------------------------------------------
 # comparison charts
 # ---------------------------------------------------------------------------
-def _num(x) -> float | None:
-    try:
-        v = float(x)
-    except (TypeError, ValueError):
-        return None
-    return v if np.isfinite(v) else None
-
-
-def compare_cost_chart(scenarios: Sequence[dict], currency: str) -> str:
-    """Present cost of each scenario as horizontal bars, with its difference from the first."""
+def compare_cost_chart(scenarios: Sequence, currency: str) -> str:
+    """Present cost of each scenario (``ScenarioResult``) as horizontal bars, with its difference from the first."""
     cid = "chart-compare-cost"
-    rows = [(str(s.get("id", f"#{j + 1}")), _num(s.get("present_cost")), _num(s.get("difference")))
-            for j, s in enumerate(scenarios)]
-    rows = [r for r in rows if r[1] is not None]
+    rows = [(s.id, s.present_cost, s.difference) for s in scenarios if s.present_cost is not None]
     if not rows:
         return message_svg(cid, "Present cost by scenario", "No scenario reported a present cost.")
     sc = money_scale([r[1] for r in rows])
@@ -583,27 +573,14 @@ def compare_cost_chart(scenarios: Sequence[dict], currency: str) -> str:
                    Frame(left=left, right=0.4, bottom=0.6, top=0.35))
 
 
-def compare_capital_chart(scenarios: Sequence[dict], currency: str, cap_by_year: dict | None = None) -> str:
-    """Capital per year of each scenario as overlaid lines (colour, line style and marker differ)."""
+def compare_capital_chart(scenarios: Sequence, currency: str, cap_by_year: dict | None = None) -> str:
+    """Capital per year of each scenario (``ScenarioResult``) as overlaid lines (colour, line style and marker differ)."""
     cid = "chart-compare-capital"
-    series = []
-    for j, s in enumerate(scenarios):
-        cby = s.get("capital_by_year") or {}
-        pts = []
-        if isinstance(cby, dict):
-            for y, v in cby.items():
-                try:
-                    yy = int(y)
-                except (TypeError, ValueError):
-                    continue
-                vv = _num(v)
-                if vv is not None:
-                    pts.append((yy, vv))
-        if pts:
-            series.append((str(s.get("id", f"#{j + 1}")), sorted(pts)))
+    series = [(s.id, sorted((int(y), float(v)) for y, v in s.capital_by_year.items()))
+              for s in scenarios if s.capital_by_year]
     if not series:
         return message_svg(cid, "Capital per year by scenario", "No scenario reported capital by year.")
-    caps = sorted((int(y), float(v)) for y, v in (cap_by_year or {}).items() if _num(v) is not None)
+    caps = sorted((int(y), float(v)) for y, v in (cap_by_year or {}).items())
     sc = money_scale([v for _, pts in series for _, v in pts] + [v for _, v in caps])
 
     def draw(fig: Figure):

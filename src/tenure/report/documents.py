@@ -14,6 +14,8 @@ import numpy as np
 
 from ..life import life_table
 from ..model import Case
+from ..progress import bar
+from ..scenarios import Comparison
 from . import charts, files, html, xlsx
 
 
@@ -45,28 +47,29 @@ def plan_xlsx(plan, case: Case) -> bytes:
     return xlsx.workbook_bytes(plan, case, policies(case))
 
 
-def write_all(plan, case: Case, out_dir) -> list[Path]:
+def write_all(plan, case: Case, out_dir, *, progress: bool = True) -> list[Path]:
     """Write ``report.html`` and ``plan.xlsx`` into ``out_dir``; returns the paths.
 
-    Both documents are rendered before either is written.
+    Both documents are rendered before either is written.  On large fleets
+    rendering takes a while: a progress bar (``tenure.progress``) shows the
+    step on a terminal.
     """
     out = Path(out_dir)
-    page = plan_html(plan, case)
-    book = plan_xlsx(plan, case)
+    with bar(2, "report", enabled=progress) as b:
+        b.set_postfix_str("report.html")
+        page = plan_html(plan, case)
+        b.update()
+        b.set_postfix_str("plan.xlsx")
+        book = plan_xlsx(plan, case)
+        b.update()
     return [files.write_text(out / "report.html", page), files.write_bytes(out / "plan.xlsx", book)]
 
 
-def compare_html(compare: dict, case: Case) -> str:
+def compare_html(compare: Comparison, case: Case) -> str:
     """The text of ``report.html`` for a comparison of scenarios."""
     return html.compare_report(compare, case)
 
 
-def write_compare_report(compare: dict, case: Case, out_dir) -> Path:
-    """Write the comparison's ``report.html`` into ``out_dir``; returns its path.
-
-    ``compare`` has ``scenarios`` (each with id, note, status, present_cost,
-    difference, capital_by_year, buys_by_type, first_year_actions), ``regret``
-    (matrix, ids, least_max_regret) and ``safe_now``; missing keys are shown
-    as "—" or left out.
-    """
+def write_compare_report(compare: Comparison, case: Case, out_dir) -> Path:
+    """Write the comparison's ``report.html`` into ``out_dir``; returns its path."""
     return files.write_text(Path(out_dir) / "report.html", compare_html(compare, case))

@@ -2,8 +2,12 @@
 
 The page has no scripts, no external style sheet, font or image: the style is
 inline, the charts are inline SVG from :mod:`tenure.report.charts`, so the
-file can be mailed, archived or opened offline.  Functions here only build
-text; :mod:`tenure.report.documents` writes it.
+file can be mailed, archived or opened offline.  The pages are assembled by
+jinja2 templates (``templates/``, autoescaping on): ``page.html.j2`` holds the
+skeleton and style, ``plan.html.j2`` and ``compare.html.j2`` the sections;
+the functions here prepare their values (plan fragments are passed as
+``Markup``).  Functions here only build text; :mod:`tenure.report.documents`
+writes it.
 
 Look: one plain column, system fonts, grey rules; accents come from the
 Okabe–Ito colour-blind-safe set (blue ``#0072B2`` for headings and figures,
@@ -16,52 +20,23 @@ import datetime as _dt
 import math
 from collections import Counter
 from html import escape
+from importlib.resources import files as files_of
 from typing import Any, Iterable, Sequence
+
+import jinja2
+from markupsafe import Markup
 
 from .. import __version__
 from ..model import AssetType, Case
+from ..scenarios import Comparison
 from . import charts
 from .text import CAUTION
 
-CSS = """
-:root { --ink:#1f1f1f; --muted:#5a5a5a; --rule:#d9d9d9; --soft:#f5f6f7; --accent:#0072B2; --warn:#D55E00; }
-* { box-sizing: border-box; }
-html { background:#ffffff; }
-body { margin:0 auto; max-width:1180px; padding:28px 32px 40px; color:var(--ink);
-       font: 15px/1.5 system-ui, -apple-system, "Segoe UI", "DejaVu Sans", "Liberation Sans", Arial, sans-serif; }
-header { border-bottom:3px solid var(--accent); padding-bottom:10px; margin-bottom:18px; }
-h1 { font-size:26px; margin:0 0 4px; font-weight:650; }
-h2 { font-size:19px; margin:30px 0 8px; padding-bottom:4px; border-bottom:1px solid var(--rule); }
-h3 { font-size:16px; margin:20px 0 4px; }
-p { margin:6px 0; }
-.sub { color:var(--muted); margin:0; }
-.money-note { color:var(--muted); font-size:14px; }
-.figures { display:grid; grid-template-columns:repeat(auto-fill, minmax(210px, 1fr)); gap:12px; margin:12px 0; }
-.figure { background:var(--soft); border-left:4px solid var(--accent); padding:10px 12px; }
-.figure .k { color:var(--muted); font-size:13px; }
-.figure .v { font-size:21px; font-weight:650; font-variant-numeric:tabular-nums; }
-.figure .n { color:var(--muted); font-size:12.5px; }
-.figure.warn { border-left-color:var(--warn); }
-.notice { border:2px solid var(--warn); background:#fff6f0; padding:10px 14px; margin:14px 0; }
-.notice strong { color:var(--warn); }
-table { border-collapse:collapse; margin:8px 0 14px; font-size:14px; font-variant-numeric:tabular-nums; }
-th, td { padding:4px 10px; border-bottom:1px solid var(--rule); text-align:left; vertical-align:top; }
-th { background:var(--soft); font-weight:600; }
-td.num, th.num { text-align:right; }
-td:first-child { white-space:nowrap; }
-td.nw, span.nw { white-space:nowrap; }
-tr.best td { background:#e8f3fa; font-weight:600; }
-figure.chart { margin:18px 0 26px; }
-figure.chart figcaption { color:var(--muted); font-size:14px; max-width:900px; margin-top:2px; }
-.read { font-size:14px; color:var(--ink); margin:2px 0 6px; max-width:900px; }
-details { margin:10px 0; }
-summary { cursor:pointer; color:var(--accent); font-weight:600; }
-footer { margin-top:36px; border-top:3px solid var(--accent); padding-top:12px; font-size:14px; }
-footer h2 { border:0; margin-top:4px; }
-footer ul { margin:6px 0 10px 18px; padding:0; }
-.small { font-size:12.5px; color:var(--muted); }
-@media print { body { max-width:none; padding:0 8mm; } details { display:block; } }
-"""
+_ENV = jinja2.Environment(loader=jinja2.PackageLoader("tenure.report", "templates"), autoescape=True,
+                          trim_blocks=True, lstrip_blocks=True, keep_trailing_newline=True,
+                          undefined=jinja2.StrictUndefined)
+#: the page style (templates/report.css), inline in every page
+CSS = (files_of("tenure.report") / "templates" / "report.css").read_text(encoding="utf-8")
 
 STATUS_WORDS = {
     "optimal": "optimal — the least present cost is proven",
@@ -96,9 +71,9 @@ def e(x: Any) -> str:
     return escape("" if x is None else str(x))
 
 
-def table(head: Sequence[str], rows: Iterable[Sequence[Any]], num: Iterable[int] = (), cls_rows=None,
-          raw: bool = False, nowrap: Iterable[int] = ()) -> str:
-    """An HTML table.
+def table(head: Sequence[str], rows: Iterable[Sequence[Any]], num: Iterable[int] = (), raw: bool = False,
+          nowrap: Iterable[int] = ()) -> str:
+    """An HTML table of a plan-report fragment (the comparison page uses the template macro).
 
     Columns in ``num`` are right-aligned, those in ``nowrap`` kept on one line; cells are escaped unless ``raw``.
     """
@@ -108,9 +83,8 @@ def table(head: Sequence[str], rows: Iterable[Sequence[Any]], num: Iterable[int]
     out = ["<table><thead><tr>"]
     out += [f"<th{right if j in num else ''}>{e(h)}</th>" for j, h in enumerate(head)]
     out.append("</tr></thead><tbody>")
-    for i, row in enumerate(rows):
-        cls = cls_rows(i, row) if cls_rows else ""
-        out.append(f'<tr class="{cls}">' if cls else "<tr>")
+    for row in rows:
+        out.append("<tr>")
         for j, c in enumerate(row):
             cell = str(c) if raw else e(c)
             attr = right if j in num else (' class="nw"' if j in nw else "")
@@ -125,16 +99,9 @@ def fig_box(label: str, value: str, note: str = "", warn: bool = False) -> str:
             f'<div class="v">{e(value)}</div>' + (f'<div class="n">{e(note)}</div>' if note else "") + "</div>")
 
 
-def chart_figure(chart_id: str, title: str, how_to_read: str, svg: str, caption: str = "") -> str:
-    return (f'<figure class="chart" id="{chart_id}"><h3>{e(title)}</h3><p class="read">{e(how_to_read)}</p>'
-            f"{svg}" + (f"<figcaption>{e(caption)}</figcaption>" if caption else "") + "</figure>")
-
-
-def page(title: str, body: str) -> str:
-    return ("<!DOCTYPE html>\n<html lang=\"en\"><head><meta charset=\"utf-8\">"
-            "<meta name=\"viewport\" content=\"width=device-width, initial-scale=1\">"
-            f"<meta name=\"generator\" content=\"tenure {e(__version__)}\">"
-            f"<title>{e(title)}</title><style>{CSS}</style></head><body>\n{body}\n</body></html>\n")
+def render(template: str, **context) -> str:
+    """A page from ``templates/<template>`` (autoescaped; pre-built fragments are passed as Markup)."""
+    return _ENV.get_template(template).render(version=__version__, **context)
 
 
 # ---------------------------------------------------------------------------
@@ -453,146 +420,58 @@ def plan_charts(plan, case: Case, life_tables) -> list[tuple[str, str, str, str]
 
 
 def plan_report(plan, case: Case, life_tables) -> str:
-    """The whole ``report.html`` of a plan."""
+    """The whole ``report.html`` of a plan (templates/plan.html.j2)."""
     s = case.study
-    last = s.start_year + s.horizon - 1
-    title = s.title or "Renewal plan"
-    capped = any(y.cap is not None for y in plan.years)
-    body = [f"<header><h1>{e(title)}</h1>"
-            f'<p class="sub">Renewal plan {s.start_year}–{last} · {case.unit_count} units · '
-            f"{e(plan.method)} · status {e(plan.status)}</p>"
-            f'<p class="sub">All money is in constant {s.start_year} currency (real terms).</p></header>']
     what = "a least-cost plan" if plan.status == "optimal" else "a plan" if plan.success else "an attempted plan"
-    body.append(f'<p class="read">This report shows {what} for when to replace each unit of the fleet '
-                f"and with which type, over {s.horizon} years. Start with the summary and the replacements of the "
-                "first years; the charts show the money per year, the age of the fleet and the cost of owning each "
-                "type; the assumptions the plan rests on are at the end. The spreadsheet plan.xlsx beside this file "
-                "holds every "
-                "figure.</p>")
-    body.append('<section id="summary"><h2>Summary</h2>')
-    body.append(summary_html(plan, case))
-    body.append("</section>")
-    body.append('<section id="first-years"><h2>Replacements in the first five years</h2>')
-    body.append(first_years_html(plan, case))
-    body.append("</section>")
-    body.append('<section id="charts"><h2>Charts</h2>')
-    for cid, ttl, read, svg in plan_charts(plan, case, life_tables):
-        body.append(chart_figure(cid, ttl, read, svg))
-    if not capped:
-        body.append('<p class="money-note">The plan has no capital cap, so there is no cost of cap years to show.</p>')
-    body.append("</section>")
-    body.append('<section id="tables"><h2>Tables</h2><h3>Present cost by class</h3>')
-    body.append(class_table_html(plan, case))
-    body.append("<details><summary>Year by year: capital, market value received, O&amp;M, cap</summary>"
-                f'<p class="money-note">Undiscounted amounts in constant {s.start_year} currency; O&amp;M is paid '
-                "at the end of the year. Room under cap is on the cap's basis.</p>"
-                + years_table_html(plan, case) + "</details>")
-    body.append("</section>")
-    body.append('<section id="assumptions"><h2>Assumptions</h2>')
-    body.append(assumptions_html(case))
-    body.append("</section>")
-    body.append(footer_html(case))
-    return page(f"{title} — renewal plan", "\n".join(body))
+    title = s.title or "Renewal plan"
+    return render("plan.html.j2", page_title=f"{title} — renewal plan", title=title, first=s.start_year,
+                  last=s.start_year + s.horizon - 1, horizon=s.horizon, unit_count=case.unit_count,
+                  method=plan.method, status=plan.status, what=what,
+                  capped=any(y.cap is not None for y in plan.years),
+                  summary=Markup(summary_html(plan, case)), first_years=Markup(first_years_html(plan, case)),
+                  charts=[(cid, ttl, read, Markup(svg)) for cid, ttl, read, svg in plan_charts(plan, case, life_tables)],
+                  class_table=Markup(class_table_html(plan, case)), years_table=Markup(years_table_html(plan, case)),
+                  assumptions=Markup(assumptions_html(case)), footer=Markup(footer_html(case)))
 
 
 # ---------------------------------------------------------------------------
 # the comparison report
 # ---------------------------------------------------------------------------
-def _cell(x) -> str:
-    """Any JSON-ish value as short text."""
-    if x is None:
-        return "—"
-    if isinstance(x, bool):
-        return "yes" if x else "no"
-    if isinstance(x, (int, float)):
-        return money(x) if abs(float(x)) >= 1000 or isinstance(x, float) else str(x)
-    if isinstance(x, dict):
-        return "; ".join(f"{k}: {_cell(v)}" for k, v in x.items()) or "—"
-    if isinstance(x, (list, tuple)):
-        return ", ".join(_cell(v) for v in x) or "—"
-    return str(x)
-
-
-def _as_list(x) -> list:
-    if x is None:
-        return []
-    if isinstance(x, (list, tuple)):
-        return list(x)
-    return [x]
-
-
-def _dget(d, *keys):
-    """Nested dict look-up that returns None on any missing level."""
-    for k in keys:
-        if not isinstance(d, dict) or k not in d:
-            return None
-        d = d[k]
-    return d
-
-
-def regret_html(regret: dict) -> str:
-    if not isinstance(regret, dict):
-        return "<p>No regret table was computed.</p>"
-    ids = [str(i) for i in _as_list(regret.get("ids"))]
-    matrix = [list(r) if isinstance(r, (list, tuple)) else [r] for r in _as_list(regret.get("matrix"))]
-    if not matrix:
-        return "<p>No regret table was computed.</p>"
-    n = max(len(r) for r in matrix)
-    col_ids = ids[:n] + [f"#{j + 1}" for j in range(len(ids), n)]
-    best = regret.get("least_max_regret")
-    max_given = regret.get("max_regret") if isinstance(regret.get("max_regret"), dict) else None
+def _regret_view(cmp: Comparison) -> dict:
+    """Head, rows and chosen plan of the regret table; a cell that breaks a rule shows why on hover."""
+    reg = cmp.regret
+    ids = list(reg.ids)
     rows, broke = [], False
-    for i, r in enumerate(matrix):
-        rid = ids[i] if i < len(ids) else f"#{i + 1}"
+    for i in ids:
         cells = []
-        for j, x in enumerate(r):
-            if charts._num(x) is not None:
+        for j in ids:
+            x = reg.regret[i][j]
+            if x is not None:
                 cells.append(money(x))
-                continue
-            why = _dget(regret, "breaks", rid, col_ids[j])
-            if why:
+            elif reg.breaks[i][j]:
                 broke = True
-                reasons = "; ".join(str(w) for w in _as_list(why)[:3])
-                cells.append(f'<span title="{e(reasons)}">breaks a rule</span>')
+                reasons = "; ".join(reg.breaks[i][j][:3])
+                cells.append(Markup('<span title="{}">breaks a rule</span>').format(reasons))
             else:
                 cells.append("—")
-        cells += ["—"] * (n - len(r))
-        nums = [v for v in (charts._num(x) for x in r) if v is not None]
-        if max_given is not None and rid in max_given:
-            worst = money(max_given[rid]) if charts._num(max_given[rid]) is not None else "breaks a rule"
+        if i in reg.max_regret:
+            worst = money(reg.max_regret[i]) if reg.max_regret[i] is not None else "breaks a rule"
         else:
-            worst = money(max(nums)) if nums else "—"
-        rows.append([e(rid)] + cells + [worst])
-    out = ['<p class="read">Each row is a plan (the schedule of that scenario); each column a scenario that '
-           "might come true. A cell is the extra present cost of carrying out the row's plan when the column's "
-           "scenario happens, over the best plan that can be carried out under it (0 on the diagonal when the "
-           "scenario's own plan is best). The last column is the worst case of each row; the highlighted row is "
-           "the plan of least worst case."
-           + (" “breaks a rule”: under that scenario the plan would break a cap, a purchase limit or a max age, "
-              "or buy a type that cannot be bought; hover for the reason." if broke else "") + "</p>"]
-    out.append(table(["plan ↓ / scenario →"] + col_ids + ["largest regret"], rows, num=range(1, n + 2), raw=True,
-                     cls_rows=lambda i, row: "best" if best is not None and row[0] == e(best) else ""))
-    if best is not None:
-        out.append(f"<p>Plan of least largest regret: <strong>{e(best)}</strong>."
-                   + (f" Rule: {e(regret['rule'])}." if regret.get("rule") else "") + "</p>")
-    return "\n".join(out)
+            worst = "—"
+        rows.append([i] + cells + [worst])
+    return {"head": ["plan ↓ / scenario →"] + ids + ["largest regret"], "rows": rows,
+            "num": list(range(1, len(ids) + 2)), "best": reg.least_max_regret, "rule": reg.rule, "broke": broke}
 
 
-def actions_text(actions) -> str:
+def actions_text(actions: dict) -> str:
     """``{unit: "keep" | "replace:<type>"}`` as 'replace 9: rt-diesel 7 (RT-L14#1, …); keep 69'."""
-    if not isinstance(actions, dict) or not actions:
-        return _cell(actions)
-    keep = 0
+    if not actions:
+        return "—"
+    keep = sum(1 for a in actions.values() if a == "keep")
     by_type: dict[str, list[str]] = {}
-    other: list[str] = []
     for unit, act in actions.items():
-        act = str(act)
-        if act == "keep":
-            keep += 1
-        elif act.startswith("replace:"):
-            by_type.setdefault(act.split(":", 1)[1], []).append(str(unit))
-        else:
-            other.append(f"{unit}: {act}")
+        if act != "keep":
+            by_type.setdefault(act.split(":", 1)[1], []).append(unit)
     parts = []
     n_rep = sum(len(v) for v in by_type.values())
     if n_rep:
@@ -600,117 +479,47 @@ def actions_text(actions) -> str:
                         for t, us in by_type.items())
         parts.append(f"replace {n_rep}: {mix}")
     parts.append(f"keep {keep}")
-    parts += other
     return "; ".join(parts)
 
 
-def safe_now_html(safe: list) -> str:
-    if not safe:
-        return "<p>No first-year action is common to every scenario's plan.</p>"
+def _safe_rows(cmp: Comparison) -> list[tuple]:
     grouped: dict[str, list[str]] = {}
-    loose: list[str] = []
-    for x in safe:
-        if isinstance(x, dict) and "unit" in x and "action" in x:
-            grouped.setdefault(str(x["action"]), []).append(str(x["unit"]))
-        else:
-            loose.append(_cell(x))
+    for x in cmp.safe_now:
+        grouped.setdefault(x.action, []).append(x.unit)
     rows = []
     for act, units in sorted(grouped.items(), key=lambda kv: (kv[0] == "keep", kv[0])):
         label = f"replace with {act.split(':', 1)[1]}" if act.startswith("replace:") else act
         rows.append((label, len(units), ", ".join(units[:12]) + (f" and {len(units) - 12} more" if len(units) > 12
                                                                  else "")))
-    out = ["<p>First-year actions that every scenario's plan takes (the same whichever scenario comes true):</p>"]
-    if rows:
-        out.append(table(("action", "units", "which"), rows, num=(1,)))
-    if loose:
-        out.append("<ul>" + "".join(f"<li>{e(x)}</li>" for x in loose) + "</ul>")
-    return "\n".join(out)
+    return rows
 
 
-def differ_html(differ: list, ids: list[str]) -> str:
-    rows = []
-    for d in differ:
-        if not isinstance(d, dict):
-            continue
-        acts = d.get("actions") if isinstance(d.get("actions"), dict) else {}
-        rows.append([d.get("unit", "—"), d.get("year", "—")] + [acts.get(i, "—") for i in ids])
-    if not rows:
-        return ""
-    extra = len(rows) - 40
-    return ("<h3>Decisions of the first two years that depend on the scenario</h3>"
-            + table(["unit", "year"] + ids, rows[:40], nowrap=range(len(ids) + 2))
-            + (f'<p class="money-note">… and {extra} more in compare.json.</p>' if extra > 0 else ""))
-
-
-def compare_report(cmp: dict, case: Case) -> str:
-    """The whole ``report.html`` of a comparison of scenarios."""
-    cmp = cmp if isinstance(cmp, dict) else {}
+def compare_report(cmp: Comparison, case: Case) -> str:
+    """The whole ``report.html`` of a comparison of scenarios (templates/compare.html.j2)."""
     s = case.study
     cur = str(s.start_year)
     title = s.title or "Scenario comparison"
-    scen = [x for x in _as_list(cmp.get("scenarios")) if isinstance(x, dict)]
-    body = [f"<header><h1>{e(title)}</h1>"
-            f'<p class="sub">Scenario comparison · {len(scen)} scenarios · planning years {s.start_year}–'
-            f"{s.start_year + s.horizon - 1}</p>"
-            f'<p class="sub">All money is in constant {cur} currency (real terms); present costs are at the start '
-            f"of {cur}.</p></header>"]
-    body.append('<section id="scenarios"><h2>Scenarios</h2>')
-    rows = []
-    for j, sc in enumerate(scen):
-        rows.append((sc.get("id", f"#{j + 1}"), sc.get("note") or "", sc.get("status") or "—",
-                     money(sc.get("present_cost")), _signed(sc.get("difference"))))
-    body.append(table(("scenario", "what changes", "status", "present cost", "difference"), rows, num=(3, 4))
-                if rows else "<p>The comparison holds no scenario.</p>")
-    body.append("</section>")
-    body.append('<section id="charts"><h2>Charts</h2>')
-    body.append(chart_figure("chart-compare-cost", "Present cost by scenario",
-                             "The bar is each scenario's least present cost; the bracket is its difference from "
-                             f"the reference as reported. Money in constant {cur} currency.",
-                             charts.compare_cost_chart(scen, cur)))
+    scen = cmp.scenarios
+    ids = cmp.ids
     caps = {}
     if case.budget is not None and (case.budget.cap is not None or case.budget.cap_by_year):
         caps = {y: case.budget.cap_for(y) for y in s.years if case.budget.cap_for(y) is not None}
-    body.append(chart_figure("chart-compare-capital", "Capital per year by scenario",
-                             "One line per scenario: the capital spent on new units each year (undiscounted). "
-                             + ("The thick grey step is the base case's cap. " if caps else "")
-                             + f"Money in constant {cur} currency.",
-                             charts.compare_capital_chart(scen, cur, caps)))
-    body.append("</section>")
-    body.append('<section id="regret"><h2>Regret</h2>')
-    body.append(regret_html(cmp.get("regret")))
-    body.append("</section>")
-    body.append('<section id="decisions"><h2>Decisions for the first year</h2>')
-    body.append(safe_now_html(_as_list(cmp.get("safe_now"))))
-    fy = [(sc.get("id", f"#{j + 1}"), actions_text(sc.get("first_year_actions"))) for j, sc in enumerate(scen)]
-    if fy:
-        body.append(f"<h3>First-year ({s.start_year}) actions of each scenario's plan</h3>"
-                    + table(("scenario", "actions"), fy))
-    body.append(differ_html(_as_list(cmp.get("differ_early")), [str(sc.get("id", f"#{j + 1}"))
-                                                                 for j, sc in enumerate(scen)]))
-    types = []
-    for sc in scen:
-        bbt = sc.get("buys_by_type")
-        if isinstance(bbt, dict):
-            for t in bbt:
-                if t not in types:
-                    types.append(t)
-    if types:
-        brow = []
-        for j, sc in enumerate(scen):
-            bbt = sc.get("buys_by_type") if isinstance(sc.get("buys_by_type"), dict) else {}
-            brow.append([sc.get("id", f"#{j + 1}")] + [_cell(bbt.get(t, 0)) for t in types])
-        body.append("<h3>Units bought over the horizon, by type</h3>"
-                    + table(["scenario"] + types, brow, num=range(1, len(types) + 1)))
-    body.append("</section>")
-    body.append('<section id="assumptions"><h2>Assumptions of the base case</h2>')
-    body.append(assumptions_html(case))
-    body.append("</section>")
-    body.append(footer_html(case))
-    return page(f"{title} — scenario comparison", "\n".join(body))
+    types = cmp.bought_types()
+    return render(
+        "compare.html.j2", page_title=f"{title} — scenario comparison", title=title, cur=cur, first=s.start_year,
+        last=s.start_year + s.horizon - 1, capped=bool(caps), ids=ids,
+        scenario_rows=[(r.id, r.note or "", r.status or "—", money(r.present_cost), _signed(r.difference))
+                       for r in scen],
+        cost_svg=Markup(charts.compare_cost_chart(scen, cur)),
+        capital_svg=Markup(charts.compare_capital_chart(scen, cur, caps)),
+        regret=_regret_view(cmp), safe_rows=_safe_rows(cmp),
+        first_year=[(r.id, actions_text(r.first_year_actions)) for r in scen],
+        differ_rows=[[d.unit, d.year] + [d.actions.get(i, "—") for i in ids] for d in cmp.differ_early],
+        types=types, buy_rows=[[r.id] + [money(r.buys_by_type.get(t, 0)) for t in types] for r in scen],
+        assumptions=Markup(assumptions_html(case)), footer=Markup(footer_html(case)))
 
 
 def _signed(x) -> str:
-    v = charts._num(x)
-    if v is None:
+    if x is None:
         return "—"
-    return ("+" if v > 0 else "") + money(v)
+    return ("+" if x > 0 else "") + money(x)

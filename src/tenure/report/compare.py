@@ -1,0 +1,215 @@
+"""Text and CSV views of a comparison of scenarios (:class:`tenure.scenarios.Comparison`)."""
+
+from __future__ import annotations
+
+import csv
+import io
+from pathlib import Path
+from typing import Any, Sequence
+
+from ..model import Case
+from ..scenarios import Comparison
+from . import files
+
+
+def csv_cell(x):
+    """A CSV cell: empty for None, floats with two decimals (cents), anything else as it is."""
+    if x is None:
+        return ""
+    return f"{x:.2f}" if isinstance(x, float) else x
+
+
+def text_money(x, signed=False) -> str:
+    """Whole currency units with comma grouping for the terminal; '—' for None."""
+    if x is None:
+        return "—"
+    if signed and round(x) == 0:
+        return "0"
+    return f"{x:+,.0f}" if signed else f"{x:,.0f}"
+
+
+def group_units(items: Sequence[tuple[str, Any]]) -> list[tuple[str, Any]]:
+    """Collapse consecutive units of one inventory row with the same value: ``RT-L12#1–2``."""
+    out: list[tuple[str, Any]] = []
+    run: list[str] = []
+    prev_row = prev_val = None
+
+    def flush():
+        if run:
+            if len(run) == 1:
+                out.append((run[0], prev_val))
+            else:
+                out.append((f"{run[0]}–{run[-1].rsplit('#', 1)[1]}", prev_val))
+
+    for name, val in items:
+        row = name.rsplit("#", 1)[0]
+        if run and row == prev_row and val == prev_val:
+            run.append(name)
+            continue
+        flush()
+        run = [name]
+        prev_row, prev_val = row, val
+    flush()
+    return out
+
+
+def compare_csv(cmp: Comparison) -> str:
+    """One row per scenario: cost, difference, max regret, capital by year, units bought by type."""
+    cols, rows = cmp.scenario_rows()
+    buf = io.StringIO()
+    w = csv.writer(buf, lineterminator="\n")
+    w.writerow(cols)
+    for r in rows:
+        w.writerow([csv_cell(x) for x in r])
+    return buf.getvalue()
+
+
+def _figures(cmp: Comparison, out: list[str], line, lab: int) -> None:
+    """Status, cost, difference, capital by five-year block and units bought, one column per scenario."""
+    rows = cmp.scenarios
+    y0, H = cmp.start_year, cmp.horizon
+    line("status", [r.status for r in rows])
+    line(f"present cost ({y0} money)", [text_money(r.present_cost) for r in rows])
+    line("difference from base", [text_money(r.difference, signed=True) for r in rows])
+    out.append("capital spent (undiscounted)")
+    for k0 in range(0, H, 5):
+        ys = [str(y) for y in range(y0 + k0, min(y0 + k0 + 5, y0 + H))]
+        line(f"  {ys[0]}–{ys[-1]}", [text_money(sum(r.capital_by_year.get(y, 0.0) for y in ys))
+                                     if r.capital_by_year else "—" for r in rows])
+    out.append("units bought over the horizon")
+    for t in cmp.bought_types():
+        line(f"  {t}", [r.buys_by_type.get(t, 0) for r in rows])
+
+
+def _in_brief(cmp: Comparison, out: list[str]) -> None:
+    base = cmp.base
+    reg = cmp.regret
+    if len(cmp.scenarios) > 1:
+        out.append("")
+        out.append("In brief")
+    for r in cmp.scenarios[1:]:
+        if r.difference is None:
+            out.append(f"  {r.id}: {r.status} — {r.message or 'no comparable plan'}")
+            continue
+        rel = r.difference / abs(base.present_cost) if base.present_cost else 0.0
+        b_under = reg.breaks["base"][r.id]
+        reg_b = reg.regret["base"][r.id]
+        if b_under:
+            fate = ("the base plan cannot be carried out under it (" + b_under[0]
+                    + (" …" if len(b_under) > 1 else "") + ")")
+        elif reg_b is not None and round(reg_b) == 0:
+            fate = "kept as is, the base plan is the cheapest plan known there too"
+        else:
+            fate = f"kept as is, the base plan would cost {text_money(reg_b)} more there than the best plan"
+        out.append(f"  {r.id}: re-planned, {text_money(r.difference, signed=True)} ({rel:+.1%}) against the base; "
+                   + fate)
+
+
+def _early(cmp: Comparison, out: list[str], w: int) -> None:
+    y0 = cmp.start_year
+    out.append("")
+    if not cmp.differ_early:
+        out.append(f"Every scenario's plan takes the same decisions in {y0}–{y0 + 1}.")
+        return
+    solved = cmp.safe_now_from
+    out.append(f"Decisions in {y0}–{y0 + 1} that differ between scenarios")
+    out.append(f"{'unit':<18}{'year':>6}" + "".join(s.rjust(max(w, 20)) for s in solved))
+    for year in (y0, y0 + 1):
+        items = [(d.unit, tuple(d.actions[s] for s in solved)) for d in cmp.differ_early if d.year == year]
+        for name, acts in group_units(items):
+            out.append(f"{name:<18}{year:>6}" + "".join(a.rjust(max(w, 20)) for a in acts))
+
+
+def _own_plan_note(cmp: Comparison, i: str) -> str | None:
+    """Why another plan is cheaper under scenario ``i`` than ``i``'s own: read from the plan's status and gap."""
+    reg = cmp.regret
+    own = reg.regret[i][i]
+    if own is None or own <= 0.005 * max(abs(reg.best_under[i] or 0.0), 1.0) * 1e-3:
+        return None
+    r = cmp.scenario(i)
+    cheaper = [k for k in cmp.ids if reg.regret[k][i] == 0.0]
+    why = (f"{i}'s plan is {r.status}, proven within {r.gap:.2%} of the least cost" if r.gap is not None
+           else f"{i}'s plan is {r.status}")
+    return (f"  note: under {i} the {', '.join(cheaper) or 'another'} plan is {text_money(own)} cheaper than "
+            f"{i}'s own plan ({why})")
+
+
+def _regret(cmp: Comparison, out: list[str], line, lab: int, w: int) -> None:
+    reg = cmp.regret
+    ids = cmp.ids
+    out.append("")
+    out.append("Regret: each row's plan, schedule fixed, costed under each column's assumptions,")
+    out.append("less the least cost of any plan that can be carried out there ('breaks': it cannot)")
+    out.append(f"{'plan of':<{lab}}" + "".join(i.rjust(w) for i in ids) + "max regret".rjust(w))
+    for i in ids:
+        cells = []
+        for j in ids:
+            if reg.breaks[i][j]:
+                cells.append("breaks" if reg.cost[i][j] is not None else "n/a")
+            else:
+                cells.append(text_money(reg.regret[i][j]))
+        cells.append(text_money(reg.max_regret.get(i)))
+        line(f"  {i}", cells)
+    for i in ids:
+        for j in ids:
+            msgs = reg.breaks[i][j]
+            if msgs:
+                more = f" (+{len(msgs) - 3} more)" if len(msgs) > 3 else ""
+                out.append(f"  {i} plan under {j}: " + "; ".join(msgs[:3]) + more)
+    out += [n for n in (_own_plan_note(cmp, i) for i in ids) if n]
+    ch = reg.least_max_regret
+    if ch is not None:
+        mr = reg.max_regret.get(ch)
+        out.append(f"least maximum regret: the {ch} plan"
+                   + (f" (at most {text_money(mr)} above the best plan of any scenario)" if mr is not None else "")
+                   + f" — {reg.rule}")
+
+
+def _safe_now(cmp: Comparison, out: list[str]) -> None:
+    safe = cmp.safe_now
+    buys = [(s.unit, s.action) for s in safe if s.action != "keep"]
+    keeps = [s for s in safe if s.action == "keep"]
+    n_units = len(cmp.base.first_year_actions) or len(safe)
+    out.append("")
+    out.append(f"Safe to commit now ({cmp.start_year}: the same action in the plans of "
+               f"{', '.join(cmp.safe_now_from)}):")
+    if buys:
+        for name, act in group_units(buys):
+            out.append(f"  replace {name} with {act.split(':', 1)[1]}")
+    else:
+        out.append("  no purchase is common to every scenario's plan")
+    out.append(f"  keep {len(keeps)} unit(s); {n_units - len(safe)} unit(s) have first-year decisions "
+               "that depend on the scenario")
+
+
+def compare_text(cmp: Comparison) -> str:
+    """The terminal view of a comparison."""
+    ids = cmp.ids
+    w = max(13, *(len(i) + 2 for i in ids))
+    lab = 26
+    out = [f"{cmp.title or 'compare'} — {len(ids) - 1} scenario(s) against the base case",
+           "─" * (lab + w * len(ids))]
+    for r in cmp.scenarios:
+        out.append(f"  {r.id:<{max(len(i) for i in ids)}}  {r.note or ''}")
+    out.append("")
+    out.append(f"{'':<{lab}}" + "".join(i.rjust(w) for i in ids))
+
+    def line(label, cells):
+        out.append(f"{label:<{lab}}" + "".join(str(c).rjust(w) for c in cells))
+
+    _figures(cmp, out, line, lab)
+    _in_brief(cmp, out)
+    _early(cmp, out, w)
+    _regret(cmp, out, line, lab, w)
+    _safe_now(cmp, out)
+    return "\n".join(out)
+
+
+def write_compare(cmp: Comparison, case: Case, out_dir: Path | str) -> list[Path]:
+    """compare.json, compare.csv and report.html, each written atomically."""
+    from . import documents
+
+    out = Path(out_dir)
+    return [files.write_json(out / "compare.json", cmp.to_dict()),
+            files.write_text(out / "compare.csv", compare_csv(cmp)),
+            documents.write_compare_report(cmp, case, out)]

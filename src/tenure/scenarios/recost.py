@@ -1,0 +1,260 @@
+"""Re-costing a fixed schedule under another case, and the regret table.
+
+:func:`recost` lays a plan's schedule on another scenario's case (each
+unit's replacements in the same years with the same types, costs from
+:mod:`tenure.curves` under that case, timed as in ``docs/conventions.md``)
+and lists the rules it breaks there (caps, purchase limits, max ages, types
+that cannot be bought).  :func:`regret_table` re-costs every scenario's plan
+under every scenario: regret of plan *i* under scenario *j* is its cost
+there less the least cost of any plan that can be carried out under *j*
+(common practice: the minimax-regret rule of decision analysis under
+uncertainty).  The plan of least maximum regret is chosen among plans that
+break under no scenario (if there are none, the fewest breaks rank first).
+"""
+
+from __future__ import annotations
+
+import math
+from collections import Counter
+from dataclasses import dataclass
+from typing import Mapping, Sequence
+
+import numpy as np
+
+from .. import curves, life
+from ..model import Case
+from .tasks import round2 as _r
+
+#: relative tolerance of the cap check when re-costing
+CAP_TOL = 1e-9
+
+
+@dataclass(frozen=True)
+class Recost:
+    """A plan's schedule costed under a case.
+
+    ``cost`` is the present cost at time 0 [money] (None when the schedule
+    cannot be laid on the case at all: another horizon, other units, an
+    unknown type); ``breaks`` lists the rules it breaks there.
+    """
+
+    cost: float | None
+    breaks: tuple[str, ...]
+
+    @property
+    def feasible(self) -> bool:
+        return self.cost is not None and not self.breaks
+
+
+def _chain_costs(case: Case) -> dict[str, float]:
+    """Per class, the capitalised cost of the best endless chain at the end ("continuing")."""
+    s = case.study
+    y_end = s.start_year + s.horizon
+    out = {}
+    for cls in case.classes:
+        best = None
+        for t in case.types_of(cls):
+            if t.buyable(y_end - 1):
+                c, _ = life.capitalised_chain_cost(t, s.discount_rate, s.start_year, y_end)
+                if best is None or c < best:
+                    best = c
+        if best is not None:
+            out[cls] = best
+    return out
+
+
+def recost(plan_dict: Mapping, case: Case) -> Recost:
+    """Present cost of a plan's schedule under ``case``, and the rules it breaks there.
+
+    Each unit starts from ``case``'s inventory (type and age) and is replaced
+    in the same calendar years by the same types as in the plan; every price,
+    market value, O&M and end value comes from ``case`` via :mod:`tenure.curves`
+    and is discounted at ``case``'s rate (docs/conventions.md: buying and
+    selling at the start of a year, O&M at its end).
+
+    Parameters
+    ----------
+    plan_dict : mapping
+        ``Plan.to_dict()`` of the plan.
+    case : Case
+    """
+    s = case.study
+    y0, H, rate = s.start_year, s.horizon, s.discount_rate
+    years = [y["year"] for y in plan_dict.get("years", [])]
+    if years != list(s.years):
+        return Recost(None, (f"the plan covers {years[0] if years else '?'}–{years[-1] if years else '?'}, "
+                             f"the scenario {y0}–{y0 + H - 1}",))
+    rows = {u.id: u for u in case.units}
+    names = [n for u in case.units for n in u.names()]
+    plan_units = plan_dict.get("units", [])
+    plan_names = [u["unit"] for u in plan_units]
+    if sorted(plan_names) != sorted(names):
+        extra = sorted(set(plan_names) - set(names))
+        missing = sorted(set(names) - set(plan_names))
+        return Recost(None, ("the plan's units differ from the scenario's inventory"
+                             + (f"; not in the scenario: {', '.join(extra[:5])}" if extra else "")
+                             + (f"; not in the plan: {', '.join(missing[:5])}" if missing else ""),))
+    types = {t.id: t for t in case.types}
+    v = (1.0 + rate) ** -np.arange(H + 1, dtype=float)
+    capital = np.zeros(H)
+    proceeds = np.zeros(H)
+    buys: list[Counter] = [Counter() for _ in range(H)]
+    chain_costs = _chain_costs(case) if s.end_value == "continuing" else {}
+    broken: Counter = Counter()  # message -> units
+    total = 0.0
+    for pu in plan_units:
+        row = rows[pu["unit"].rsplit("#", 1)[0]]
+        t, a = types[row.type], row.age
+        cls = t.class_
+        ev = {e["year"]: e["type"] for e in pu["events"]}
+        for k in range(H):
+            y = y0 + k
+            if y in ev:
+                new = types.get(ev[y])
+                if new is None:
+                    return Recost(None, (f"{y}: the plan buys type {ev[y]!r}, unknown in the scenario",))
+                if new.class_ != cls:
+                    broken[f"{y}: buys {new.id} (class {new.class_}) for a {cls} unit"] += 1
+                if not new.buyable(y):
+                    broken[f"{y}: buys {new.id}, which can be bought only {_window(new)}"] += 1
+                p = curves.price(new, y, y0)
+                mv = curves.market_value(t, a, y, y0)
+                total += v[k] * (p - mv) + v[k + 1] * curves.om(new, 1, y, y0)
+                capital[k] += p
+                proceeds[k] += mv
+                buys[k][new.class_] += 1
+                t, a = new, 1
+            else:
+                if a >= t.max_age:
+                    broken[f"{y}: keeps a {t.id} at age {a}, its max age is {t.max_age}"] += 1
+                total += v[k + 1] * curves.om(t, a + 1, y - a, y0)
+                a += 1
+        y_end = y0 + H
+        if s.end_value == "salvage":
+            total -= v[H] * curves.market_value(t, a, y_end, y0)
+        else:
+            a_end = min(a, t.max_age)
+            total += v[H] * life.continuing_cost(t, a_end, y_end - a_end, chain_costs[t.class_], rate, y0, y_end)
+    _budget_breaks(case, capital, proceeds, buys, broken)
+    msgs = tuple(m if n == 1 or "cap" in m or "limit" in m else f"{m} ({n} units)"
+                 for m, n in sorted(broken.items(), key=lambda kv: kv[0][:4]))
+    return Recost(float(total), msgs)
+
+
+def _budget_breaks(case: Case, capital, proceeds, buys, broken: Counter) -> None:
+    """Count in ``broken`` each year whose spend is over its cap or whose purchases of a class are over its limit."""
+    b = case.budget
+    for k in range(case.study.horizon):
+        y = case.study.start_year + k
+        cap = b.cap_for(y) if b is not None else None
+        if cap is not None:
+            spend = capital[k] - (proceeds[k] if b.basis == "net" else 0.0)
+            if spend > cap * (1 + CAP_TOL) + 1e-6:
+                broken[f"{y}: spends {spend:,.0f} ({b.basis}), over the cap of {cap:,.0f}"] += 1
+        for cls, n in buys[k].items():
+            lim = case.limit_for(cls)
+            if lim is not None and n > lim:
+                broken[f"{y}: buys {n} {cls} units, over the limit of {lim}"] += 1
+
+
+def _window(t) -> str:
+    if t.buy_from is not None and t.buy_until is not None:
+        return f"in {t.buy_from}–{t.buy_until}"
+    return f"from {t.buy_from}" if t.buy_from is not None else f"until {t.buy_until}"
+
+
+@dataclass(frozen=True)
+class RegretTable:
+    """Every scenario's plan re-costed under every scenario (the ``"regret"`` part of ``compare.json``).
+
+    ``cost[i][j]``: present cost [money, cents] of the plan of scenario *i*
+    under scenario *j* (None when it cannot be laid on *j*);
+    ``regret[i][j] = cost[i][j] − best_under[j]`` (None where plan *i* breaks
+    a rule under *j*); ``breaks[i][j]``: the rules it breaks there;
+    ``max_regret[i]`` (None when the plan breaks somewhere);
+    ``least_max_regret``: the chosen plan, by ``rule``.
+    """
+
+    ids: tuple[str, ...]
+    cost: Mapping[str, Mapping[str, float | None]]
+    regret: Mapping[str, Mapping[str, float | None]]
+    breaks: Mapping[str, Mapping[str, tuple[str, ...]]]
+    best_under: Mapping[str, float | None]
+    max_regret: Mapping[str, float | None]
+    least_max_regret: str | None
+    rule: str
+
+    def matrix(self) -> list[list[float | None]]:
+        """``regret`` as rows (plans) × columns (scenarios), in ``ids`` order."""
+        return [[self.regret[i][j] for j in self.ids] for i in self.ids]
+
+    def frame(self):
+        """The regret matrix as a pandas DataFrame: index ``plan``, one column per scenario; NaN where it breaks."""
+        import pandas as pd
+
+        df = pd.DataFrame(self.matrix(), index=list(self.ids), columns=list(self.ids), dtype=float)
+        df.index.name = "plan"
+        return df
+
+    def to_dict(self) -> dict:
+        ids = list(self.ids)
+        return {"scenarios": ids, "ids": ids, "matrix": self.matrix(),
+                "cost": {i: dict(r) for i, r in self.cost.items()}, "regret": {i: dict(r) for i, r in self.regret.items()},
+                "breaks": {i: {j: list(b) for j, b in r.items()} for i, r in self.breaks.items()},
+                "best_under": dict(self.best_under), "max_regret": dict(self.max_regret),
+                "least_max_regret": self.least_max_regret, "rule": self.rule}
+
+
+def regret_table(ids: Sequence[str], plans: Mapping[str, Mapping | None], cases: Mapping[str, Case]) -> RegretTable:
+    """Every plan re-costed under every scenario; regret and the plan of least maximum regret.
+
+    Parameters
+    ----------
+    ids : sequence of str
+        Scenario ids, base first.
+    plans : mapping
+        Scenario id → ``Plan.to_dict()`` of its plan (None: no plan).
+    cases : mapping
+        Scenario id → its case.
+    """
+    cost: dict[str, dict[str, float | None]] = {}
+    breaks: dict[str, dict[str, list[str]]] = {}
+    feasible: dict[str, dict[str, bool]] = {}
+    for i in ids:
+        cost[i], breaks[i], feasible[i] = {}, {}, {}
+        for j in ids:
+            if plans.get(i) is None:
+                cost[i][j], breaks[i][j], feasible[i][j] = None, ["no plan"], False
+                continue
+            r = recost(plans[i], cases[j])
+            cost[i][j], breaks[i][j], feasible[i][j] = r.cost, list(r.breaks), r.feasible
+    best = {}
+    for j in ids:
+        ok = [cost[i][j] for i in ids if feasible[i][j]]
+        best[j] = min(ok) if ok else None
+    regret = {i: {j: (cost[i][j] - best[j] if feasible[i][j] and best[j] is not None else None) for j in ids}
+              for i in ids}
+    max_regret = {}
+    rank = {}
+    for n, i in enumerate(ids):
+        if plans.get(i) is None:
+            continue
+        vals = [r for r in regret[i].values() if r is not None]
+        n_broken = sum(1 for j in ids if not feasible[i][j])
+        max_regret[i] = max(vals) if vals and n_broken == 0 else None
+        rank[i] = (n_broken, max(vals) if vals else math.inf, n)
+    choice = min(rank, key=rank.get) if rank else None
+    if choice is not None and rank[choice][0] > 0:
+        rule = ("every plan breaks a rule under some scenario; the plan breaking the fewest scenarios, then "
+                "of least maximum regret where it can be carried out, is chosen")
+    else:
+        rule = "least maximum regret among the plans that break no rule under any scenario"
+    return RegretTable(ids=tuple(ids), cost=_round_nested(cost), regret=_round_nested(regret),
+                       breaks={i: {j: tuple(b) for j, b in row.items()} for i, row in breaks.items()},
+                       best_under={j: _r(x) for j, x in best.items()},
+                       max_regret={i: _r(x) for i, x in max_regret.items()}, least_max_regret=choice, rule=rule)
+
+
+
+def _round_nested(d):
+    return {i: {j: _r(x) for j, x in row.items()} for i, row in d.items()}
