@@ -385,6 +385,12 @@ def test_cbc_and_highs_run_the_same_sequence_to_the_same_optimum(name, monkeypat
     assert close(ph.present_cost, pc.present_cost) and close(pc.present_cost, exhaustive(name))
     assert ph.provenance.shadow_prices == "LP relaxation (HiGHS)"
     assert pc.provenance.shadow_prices == "LP relaxation (CBC)"
+    # the writers name the source the plan records, not a fixed one
+    from tenure.report.text import plan_summary
+
+    summary = plan_summary(pc, case)  # the dearest caps are listed when some cap has a shadow price
+    assert ("LP relaxation (CBC)" in summary) == any(y.shadow_price for y in pc.years) and "HiGHS" not in summary
+    assert pc.to_dict()["provenance"]["shadow_prices"] == "LP relaxation (CBC)"
     # the caps' shadow prices agree too (LP duality: the LP optimum's slope does not depend on the solver)
     for yh, yc in zip(ph.years, pc.years):
         assert abs(yh.shadow_price - yc.shadow_price) <= 1e-6 * max(1.0, yh.shadow_price), yh.year
