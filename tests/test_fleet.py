@@ -10,9 +10,11 @@ What each check is measured against is named beside it:
   true optimum that the solver's answer, bound and gap are held to.
 - **recomputation from the written files**: the caps and limits are re-added from ``units.csv``
   (one row per purchase, with its price and the market value of the unit sold) as a user would.
-- **an independent LP**: the relaxation is rebuilt from ``fleet.build_program`` and solved with
-  highspy here, for complementary slackness and finite differences of its optimum (LP duality:
-  common practice; a dual price is the slope of the optimum in the right-hand side).
+- **the same LP, solved here**: the relaxation of ``fleet.build_program`` is solved with highspy
+  in this file (not through the layer's back ends), for complementary slackness and finite
+  differences of its optimum (LP duality: common practice; a dual price is the slope of the optimum
+  in the right-hand side). It checks the shadow prices the layer reports, not the program itself;
+  a claim that no plan fits is proven by hand arithmetic from the case or by exhaustive search.
 - **the backward recursion** (``solve_uncapped``), itself tested in test_chain.py against
   networkx and brute force, wherever no cap binds.
 - **a second MIP solver**: CBC (through pulp) against HiGHS.
@@ -357,6 +359,43 @@ def test_cbc_and_highs_agree_with_each_other_and_the_exhaustive_search(name):
     assert close(pc.present_cost, exhaustive(name))
 
 
+@pytest.mark.parametrize("name", ["gross-45k", "net-26k", "gross-60k-van-limit-1"])
+def test_cbc_and_highs_run_the_same_sequence_to_the_same_optimum(name, monkeypatch):
+    """Both back ends go through the same stages: the LP, fix-and-relax (once, on that back end's own LP)
+    and, when needed, the MIP from its plan; at gap 0 both reach the exhaustive optimum."""
+    from tenure.fleet import driver, get_backend
+
+    calls = []
+    real = driver.fix_and_relax
+
+    def spy(prog, case, be, x, deadline, log=None):
+        out = real(prog, case, be, x, deadline, log)
+        calls.append((type(be), out is not None))
+        return out
+
+    monkeypatch.setattr(driver, "fix_and_relax", spy)
+    case = small_case(name)
+    plans = {}
+    for backend in ("highs", "cbc"):
+        calls.clear()
+        plans[backend] = fleet.solve_capped(case, backend=backend, gap=0.0, time_limit=60)
+        assert calls == [(get_backend(backend), True)], (backend, calls)
+    ph, pc = plans["highs"], plans["cbc"]
+    assert ph.status == pc.status == "optimal"
+    assert close(ph.present_cost, pc.present_cost) and close(pc.present_cost, exhaustive(name))
+    assert ph.provenance.shadow_prices == "LP relaxation (HiGHS)"
+    assert pc.provenance.shadow_prices == "LP relaxation (CBC)"
+    # the writers name the source the plan records, not a fixed one
+    from tenure.report.text import plan_summary
+
+    summary = plan_summary(pc, case)  # the dearest caps are listed when some cap has a shadow price
+    assert ("LP relaxation (CBC)" in summary) == any(y.shadow_price for y in pc.years) and "HiGHS" not in summary
+    assert pc.to_dict()["provenance"]["shadow_prices"] == "LP relaxation (CBC)"
+    # the caps' shadow prices agree too (LP duality: the LP optimum's slope does not depend on the solver)
+    for yh, yc in zip(ph.years, pc.years):
+        assert abs(yh.shadow_price - yc.shadow_price) <= 1e-6 * max(1.0, yh.shadow_price), yh.year
+
+
 def test_cbc_bound_stopped_at_the_gap_is_still_a_bound(demo):
     """CBC stopping within its gap tolerance has not proven its plan optimal. Each solver's lower
     bound must stay at or below the other's plan (a plan's cost is an upper bound on the optimum),
@@ -553,11 +592,31 @@ def _demo_with_cap(cap: float) -> tuple[dict, object]:
     return doc, build_case(doc, base_dir=DEMO.parent)
 
 
+def _forced_spend_in_start_year(case) -> float:
+    """Least purchase spend of the start year: each unit already at max_age replaced by the cheapest type
+    of its class buyable that year, at its list price (the start year's price, docs/conventions.md)."""
+    y0 = case.study.start_year
+    buyable = [t for t in case.types
+               if (t.buy_from is None or t.buy_from <= y0) and (t.buy_until is None or y0 <= t.buy_until)]
+    total = 0.0
+    for u in case.units:
+        t = case.type(u.type)
+        if u.age >= t.max_age:
+            total += u.count * min(b.price for b in buyable if b.class_ == t.class_)
+    return total
+
+
 def test_demo_shortfall_added_to_the_caps_makes_it_feasible(tmp_path):
     """The demo with a 1.2 M cap in every year: its LP relaxation is already infeasible, so no plan
     exists. The shortfall, added year by year through cap_by_year, must give a case that solves."""
     doc, case = _demo_with_cap(1_200_000)
-    assert lp_status(case) == "Infeasible"  # independent proof that no plan fits
+    # the proof, by hand arithmetic from the case (docs/conventions.md: a unit at max_age must be replaced
+    # that year): in 2027 two refuse trucks (age 14 of 14), a bus (16 of 16), three pickups (9 of 9) and a
+    # sweeper (11 of 11) are at max age; their cheapest replacements buyable in 2027 cost
+    # 2 × 372,000 + 548,000 + 3 × 51,500 + 296,000 = 1,742,500 > 1,200,000
+    assert _forced_spend_in_start_year(case) == 2 * 372_000 + 548_000 + 3 * 51_500 + 296_000 == 1_742_500
+    # the relaxation of the layer's own program agrees: this checks the program builder, it proves nothing
+    assert lp_status(case) == "Infeasible"
     plan = fleet.solve_capped(case, time_limit=30)
     assert plan.status == "infeasible" and plan.shortfall
     extra = dict(plan.shortfall)
@@ -631,8 +690,8 @@ def test_integer_infeasibility_that_the_lp_misses_is_proven_and_reported():
     the two years it has, whole vans cannot (at most one a year, two in all); the elastic program proves
     that extra capital is needed, so the status is "infeasible", not merely "unsolved"."""
     doc = small_doc(horizon=4, units=[{"id": f"V{j}", "type": "van-a", "age": 5} for j in range(1, 4)])
-    price_2027, price_2028 = 30000.0, 30000.0 * 1.02
-    doc["budget"] = {"cap": 1.5 * price_2028, "basis": "gross"}
+    price_2030, price_2031 = 30000.0, 30000.0 * 1.02  # van-a: 30,000 in 2030 (Y0), rising 2 % a year
+    doc["budget"] = {"cap": 1.5 * price_2031, "basis": "gross"}
     case = build_case(doc)
     assert lp_status(case) == "Optimal"
     exact, _ = exhaustive_optimum(case)
@@ -640,10 +699,12 @@ def test_integer_infeasibility_that_the_lp_misses_is_proven_and_reported():
     plan = fleet.solve_capped(case, time_limit=30)
     assert plan.status == "infeasible"
     extra = dict(plan.shortfall)
-    # by hand: one of the two years must buy two vans; the cheaper is 2027 (2 × 30,000 − 45,900 = 14,100)
-    least = 2 * price_2027 - 1.5 * price_2028
+    # by hand: one of the two years (2030, 2031) must buy two vans; the cheaper is 2030
+    # (2 × 30,000 − 45,900 = 14,100)
+    least = 2 * price_2030 - 1.5 * price_2031
+    assert set(extra) == {2030}  # 2031 would need 2 × 30,600 − 45,900 = 15,300
     assert least - 1.0 <= sum(extra.values()) <= least * (1 + 1e-3) + 1.0
     raised = copy.deepcopy(doc)
-    raised["budget"]["cap_by_year"] = {str(y): 1.5 * price_2028 + x for y, x in extra.items()}
+    raised["budget"]["cap_by_year"] = {str(y): 1.5 * price_2031 + x for y, x in extra.items()}
     again = fleet.solve_capped(build_case(raised), time_limit=30)
     assert again.status in ("optimal", "feasible")

@@ -203,15 +203,14 @@ class ChainSolution:
         inf for states that do not exist.
     policy : int ndarray (H, T, A+1)
         ``KEEP`` (−1) or the index of the type to buy.
-    best_buy : int ndarray (H,)
-        Type index of the best purchase in year k (−1 when none is buyable).
+    replace_value : ndarray (H, T, A+1)
+        Least present cost from state (k, t, a) when the unit is replaced at time k [money]
+        (read by :func:`flexibility`).
     """
 
     graph: StageGraph
     value: np.ndarray
     policy: np.ndarray
-    best_buy: np.ndarray
-    keep_value: np.ndarray = field(repr=False)
     replace_value: np.ndarray = field(repr=False)
 
 
@@ -264,11 +263,10 @@ def backward(g: StageGraph, buy_pw: np.ndarray | None = None, sale_pw: np.ndarra
     V = np.empty((H + 1, T, A1))
     V[H] = g.end_pw
     pol = np.empty((H, T, A1), dtype=np.int16)
-    best = np.empty(H, dtype=np.int16)
-    keepv = np.empty((H, T, A1))
+    keep = np.empty((T, A1))  # the keep value of year k's states (a workspace: only replace values are kept)
     repv = np.empty((H, T, A1))
     # the oldest age column can never be kept (keep_pw is inf there): its keep value is inf
-    keepv[:, :, -1] = np.inf
+    keep[:, -1] = np.inf
     keep_pw = g.keep_pw[:, :, :-1]
     tol = _tie_tolerance(g, buy)
     use_keep = np.empty((T, A1), dtype=bool)
@@ -277,7 +275,7 @@ def backward(g: StageGraph, buy_pw: np.ndarray | None = None, sale_pw: np.ndarra
     # are inf and purchases enter at age 1), so they are masked once after the loop.
     for k in range(H - 1, -1, -1):
         nxt = V[k + 1]
-        keep, rep = keepv[k], repv[k]
+        rep = repv[k]
         np.add(keep_pw[k], nxt[:, 1:], out=keep[:, :-1])
         j, b = _first_min(buy[k] + nxt[:, 1])
         np.subtract(b, sale[k], out=rep)
@@ -287,9 +285,8 @@ def backward(g: StageGraph, buy_pw: np.ndarray | None = None, sale_pw: np.ndarra
         np.copyto(V[k], keep, where=use_keep)
         pol[k] = j
         np.copyto(pol[k], KEEP, where=use_keep)
-        best[k] = j
     V[:H, ~g.valid] = np.inf
-    return ChainSolution(graph=g, value=V, policy=pol, best_buy=best, keep_value=keepv, replace_value=repv)
+    return ChainSolution(graph=g, value=V, policy=pol, replace_value=repv)
 
 
 @dataclass(frozen=True)

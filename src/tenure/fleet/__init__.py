@@ -10,7 +10,7 @@
 """
 
 from ..plan import InfeasibleLimits, NoPlanError, NoPlanFound
-from .backend import BACKENDS, Backend, LPResult, MIPResult, get_backend
+from .backend import BACKENDS, DEFAULT_BACKEND, Backend, LPResult, MIPResult, get_backend
 from .driver import solve_capped
 from .flows import fits_caps, flows_to_groups
 from .highs import new_highs, watch_improvements
@@ -19,6 +19,6 @@ from .rounding import fix_and_relax
 
 SOLVERS = BACKENDS
 
-__all__ = ["BACKENDS", "SOLVERS", "Backend", "CohortProgram", "ColumnIndex", "InfeasibleLimits", "LPResult",
+__all__ = ["BACKENDS", "DEFAULT_BACKEND", "SOLVERS", "Backend", "CohortProgram", "ColumnIndex", "InfeasibleLimits", "LPResult",
            "MIPResult", "NoPlanError", "NoPlanFound", "build_program", "fits_caps", "fix_and_relax",
            "flows_to_groups", "get_backend", "new_highs", "solve_capped", "watch_improvements"]

@@ -74,6 +74,8 @@ class Backend(ABC):
 
 _REGISTRY: dict[str, str] = {"highs": "tenure.fleet.highs:HighsBackend", "cbc": "tenure.fleet.cbc:CbcBackend"}
 BACKENDS = tuple(_REGISTRY)
+#: the back end used when none is named
+DEFAULT_BACKEND = BACKENDS[0]
 
 
 def get_backend(name: str) -> type[Backend]:

@@ -26,7 +26,7 @@ from .. import chain
 from ..model import Case
 from ..plan import Plan, Provenance, assemble
 from ..uncapped import build_graphs, solve_uncapped
-from .backend import Backend, get_backend
+from .backend import DEFAULT_BACKEND, Backend, get_backend
 from .flows import fits_caps, flows_to_groups
 from .program import build_program
 from .rounding import fix_and_relax
@@ -57,7 +57,7 @@ class _Run:
         return round(time.perf_counter() - self.t0, 3)
 
 
-def solve_capped(case: Case, backend: str = "highs", time_limit: float = 120.0, gap: float = 0.005,
+def solve_capped(case: Case, backend: str = DEFAULT_BACKEND, time_limit: float = 120.0, gap: float = 0.005,
                  progress: bool = False, solver: str | None = None) -> Plan:
     """Least-cost fleet plan under annual capital caps and purchase limits.
 

@@ -98,32 +98,57 @@ class CohortProgram:
 
 
 class _Builder:
-    """Columns and (row, column, value) triplets as they are created."""
+    """Columns, rows and chunks of (row, column, value) triplets as they are created."""
 
     def __init__(self):
         self.cost: list[float] = []
         self.upper: list[float] = []
         self.row_lo: list[float] = []
         self.row_hi: list[float] = []
-        self.ri: list[int] = []
-        self.cj: list[int] = []
-        self.vv: list[float] = []
+        self.chunks: list[tuple[np.ndarray, np.ndarray, np.ndarray]] = []
 
     def row(self, lo: float, hi: float) -> int:
         self.row_lo.append(lo)
         self.row_hi.append(hi)
         return len(self.row_lo) - 1
 
-    def col(self, c: float, ub: float) -> int:
-        self.cost.append(c)
-        self.upper.append(ub)
-        return len(self.cost) - 1
+    def rows(self, lo: np.ndarray, hi: np.ndarray) -> np.ndarray:
+        """Append one row per entry of ``lo``/``hi``; their indices."""
+        first = len(self.row_lo)
+        self.row_lo.extend(np.asarray(lo, dtype=float).tolist())
+        self.row_hi.extend(np.asarray(hi, dtype=float).tolist())
+        return np.arange(first, len(self.row_lo))
 
-    def put(self, r: int, cols, value) -> None:
+    def cols(self, cost: np.ndarray, ub: float) -> int:
+        """Append one column per entry of ``cost``, each with upper bound ``ub``; the first's index."""
+        first = len(self.cost)
+        self.cost.extend(np.asarray(cost, dtype=float).tolist())
+        self.upper.extend([ub] * len(cost))
+        return first
+
+    def put(self, rows, cols, value) -> None:
+        """Coefficients ``value`` (a number or one per entry) at (``rows``, ``cols``); entries whose
+        column is −1 (absent) are skipped.  ``rows`` may be one row for all."""
         cols = np.asarray(cols, dtype=np.int64).ravel()
-        self.ri.extend([r] * len(cols))
-        self.cj.extend(cols.tolist())
-        self.vv.extend(np.broadcast_to(np.asarray(value, dtype=float), cols.shape).tolist())
+        keep = cols >= 0
+        n = int(np.count_nonzero(keep))
+        if n == 0:
+            return
+        rows = np.full(n, rows, dtype=np.int64) if np.ndim(rows) == 0 else np.asarray(rows, dtype=np.int64)[keep]
+        vals = np.full(n, value, dtype=float) if np.ndim(value) == 0 else np.asarray(value, dtype=float)[keep]
+        self.chunks.append((rows, cols[keep], vals))
+
+    def matrix(self) -> sp.csc_matrix:
+        if not self.chunks:
+            return sp.csc_matrix((len(self.row_lo), len(self.cost)))
+        ri, cj, vv = (np.concatenate(x) for x in zip(*self.chunks))
+        return sp.coo_matrix((vv, (ri, cj)), shape=(len(self.row_lo), len(self.cost))).tocsc()
+
+
+def _states(mask: np.ndarray):
+    """(t, a) of the true entries of a (T, A+1) mask, as Python ints, in row-major order."""
+    ts, as_ = np.nonzero(mask)
+    return zip(ts.tolist(), as_.tolist())
 
 
 def _caps(case: Case, extra_cap) -> np.ndarray:
@@ -138,49 +163,66 @@ def _caps(case: Case, extra_cap) -> np.ndarray:
 
 
 def _class_columns(b: _Builder, g, reach, H: int, n_units: float) -> ColumnIndex:
+    """Year by year: for each reachable state (row-major order) its keep column (while a < max_age)
+    then its sell column (when the year has a buyable type), then one buy column per buyable type."""
     T, A1 = g.valid.shape
     keep = np.full((H, T, A1), -1, dtype=np.int64)
     sell = np.full((H, T, A1), -1, dtype=np.int64)
     buy = np.full((H, T), -1, dtype=np.int64)
     for k in range(H):
-        any_buy = bool(g.buyable[k].any())
-        for t, a in zip(*np.nonzero(reach[k])):
-            if a < g.max_age[t]:
-                keep[k, t, a] = b.col(float(g.keep_pw[k, t, a] + (g.end_pw[t, a + 1] if k == H - 1 else 0.0)), n_units)
-            if any_buy:
-                sell[k, t, a] = b.col(float(-g.sale_pw[k, t, a]), n_units)
-        for t2 in np.flatnonzero(g.buyable[k]):
-            buy[k, t2] = b.col(float(g.buy_pw[k, t2] + (g.end_pw[t2, 1] if k == H - 1 else 0.0)), n_units)
+        ts, as_ = np.nonzero(reach[k])
+        has_keep = as_ < g.max_age[ts]
+        has_sell = np.full(len(ts), bool(g.buyable[k].any()))
+        first = np.concatenate([[0], np.cumsum(has_keep.astype(np.int64) + has_sell)])
+        cost = np.empty(first[-1])
+        kc, sc = first[:-1][has_keep], (first[:-1] + has_keep)[has_sell]
+        kt, ka = ts[has_keep], as_[has_keep]
+        cost[kc] = g.keep_pw[k, kt, ka] + (g.end_pw[kt, ka + 1] if k == H - 1 else 0.0)
+        cost[sc] = -g.sale_pw[k, ts[has_sell], as_[has_sell]]
+        base = b.cols(cost, n_units)
+        keep[k, kt, ka] = base + kc
+        sell[k, ts[has_sell], as_[has_sell]] = base + sc
+        t2 = np.flatnonzero(g.buyable[k])
+        buy[k, t2] = b.cols(g.buy_pw[k, t2] + (g.end_pw[t2, 1] if k == H - 1 else 0.0), n_units) + np.arange(len(t2))
     return ColumnIndex(keep=keep, sell=sell, buy=buy)
 
 
 def _class_rows(b: _Builder, g, ci: ColumnIndex, reach, start: dict, cap_rows, net: bool, lim) -> None:
+    """The class's rows: conservation at each state (year by year, row-major), then for each year
+    its market node and its purchase-limit row; its coefficients in the caps' rows."""
     keep, sell, buy = ci.keep, ci.sell, ci.buy
     H = len(cap_rows)
     # conservation at each state: keep + sell − inflow = inventory (k = 0) or 0
-    for k in range(H):
-        for t, a in zip(*np.nonzero(reach[k])):
-            n0 = float(len(start.get((int(t), int(a)), []))) if k == 0 else 0.0
-            r = b.row(n0, n0)
-            b.put(r, [j for j in (keep[k, t, a], sell[k, t, a]) if j >= 0], 1.0)
-            if k > 0:
-                inflow = [keep[k - 1, t, a - 1]] if a >= 1 else []
-                inflow += [buy[k - 1, t]] if a == 1 else []
-                b.put(r, [j for j in inflow if j >= 0], -1.0)
-    # market node, cap and limit rows
-    for k in range(H):
-        s_mask, b_mask = sell[k] >= 0, buy[k] >= 0
-        if not s_mask.any() and not b_mask.any():
-            continue
-        r = b.row(0.0, 0.0)
-        b.put(r, sell[k][s_mask], 1.0)
-        b.put(r, buy[k][b_mask], -1.0)
-        if cap_rows[k] >= 0:
-            b.put(int(cap_rows[k]), buy[k][b_mask], g.price[k][b_mask])
-            if net:
-                b.put(int(cap_rows[k]), sell[k][s_mask], -g.value[k][s_mask])
-        if lim is not None and b_mask.any():
-            b.put(b.row(-INF, float(lim)), buy[k][b_mask], 1.0)
+    ks, ts, as_ = np.nonzero(reach[:H])
+    n0 = np.zeros(len(ks))
+    n0[ks == 0] = [len(start.get(st, [])) for st in zip(ts[ks == 0].tolist(), as_[ks == 0].tolist())]
+    r = b.rows(n0, n0)
+    b.put(r, keep[ks, ts, as_], 1.0)
+    b.put(r, sell[ks, ts, as_], 1.0)
+    old = (ks > 0) & (as_ >= 1)
+    b.put(r[old], keep[ks[old] - 1, ts[old], as_[old] - 1], -1.0)
+    new = (ks > 0) & (as_ == 1)
+    b.put(r[new], buy[ks[new] - 1, ts[new]], -1.0)
+    # market node (Σ sell = Σ buy) and purchase limit of each year
+    market = np.full(H, -1, dtype=np.int64)
+    limit = np.full(H, -1, dtype=np.int64)
+    s_any, b_any = (sell >= 0).any(axis=(1, 2)), (buy >= 0).any(axis=1)
+    for k in np.flatnonzero(s_any | b_any).tolist():
+        market[k] = b.row(0.0, 0.0)
+        if lim is not None and b_any[k]:
+            limit[k] = b.row(-INF, float(lim))
+    sk, st, sa = np.nonzero(sell >= 0)
+    bk, bt = np.nonzero(buy >= 0)
+    b.put(market[sk], sell[sk, st, sa], 1.0)
+    b.put(market[bk], buy[bk, bt], -1.0)
+    lb = limit[bk] >= 0
+    b.put(limit[bk][lb], buy[bk, bt][lb], 1.0)
+    # caps: gross Σ price·buy; net less Σ value·sell
+    cb = cap_rows[bk] >= 0
+    b.put(cap_rows[bk][cb], buy[bk, bt][cb], g.price[bk, bt][cb])
+    if net:
+        cs = cap_rows[sk] >= 0
+        b.put(cap_rows[sk][cs], sell[sk, st, sa][cs], -g.value[sk, st, sa][cs])
 
 
 def build_program(case: Case, graphs=None, extra_cap: np.ndarray | None = None) -> CohortProgram:
@@ -202,8 +244,8 @@ def build_program(case: Case, graphs=None, extra_cap: np.ndarray | None = None) 
         reach = g.reachable(list(starts[cls]))
         cols[cls] = _class_columns(b, g, reach, H, n_units)
         _class_rows(b, g, cols[cls], reach, starts[cls], cap_rows, net, case.limit_for(cls))
-    n, m = len(b.cost), len(b.row_lo)
-    matrix = sp.coo_matrix((np.asarray(b.vv), (np.asarray(b.ri), np.asarray(b.cj))), shape=(m, n)).tocsc()
+    n = len(b.cost)
+    matrix = b.matrix()
     return CohortProgram(cost=np.asarray(b.cost), lower=np.zeros(n), upper=np.asarray(b.upper),
                          row_lower=np.asarray(b.row_lo), row_upper=np.asarray(b.row_hi), matrix=matrix,
                          cap_rows=cap_rows, cols=cols, starts=starts, graphs=graphs)

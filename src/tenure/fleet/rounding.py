@@ -21,16 +21,10 @@ from .program import CohortProgram
 INF = math.inf
 
 
-def _round_year(prog: CohortProgram, x: np.ndarray, k: int, case: Case, eager: int = 0) -> dict[int, float] | None:
-    """Whole-unit values for every column of year k, within its cap and limits; None if none found.
-
-    ``eager`` 0 rounds a fractional sale up from one half; 1 rounds every
-    fractional sale up while the cap allows (largest fraction first); 2 does
-    the same oldest state first.  Sales brought forward make room in the
-    years after, which is what a failed rounding usually lacks.
-    """
-    vals: dict[int, float] = {}
-    cands = []  # (frac, class, state) candidates for one more sale
+def _floors(prog: CohortProgram, x: np.ndarray, k: int):
+    """Year k's sales rounded down, per class and state ``[sales, units in]``, and the candidates
+    ``(fraction, class, state)`` for one more sale."""
+    cands = []
     per_class = {}
     for cls, ci in prog.cols.items():
         keep, sell = ci.keep[k], ci.sell[k]
@@ -49,6 +43,81 @@ def _round_year(prog: CohortProgram, x: np.ndarray, k: int, case: Case, eager: i
                     cands.append((xs - sv, cls, (t, a)))
             sells[(t, a)] = [sv, n_in]
         per_class[cls] = sells
+    return per_class, cands
+
+
+def _class_buys(prog: CohortProgram, x: np.ndarray, k: int, cls: str, n_sell: float) -> dict[int, float]:
+    """Whole purchases of year k in ``cls`` for ``n_sell`` sales: the LP's floors, then the largest
+    remainders (cheaper type first on ties); sales beyond the LP's purchases buy the cheapest type."""
+    g = prog.graphs[cls]
+    b = prog.cols[cls].buy[k]
+    idx = np.flatnonzero(b >= 0)
+    if n_sell == 0 or len(idx) == 0:
+        return {int(t): 0.0 for t in idx}
+    lp = np.array([x[b[t]] for t in idx])
+    base = np.floor(lp + 1e-6)
+    if base.sum() > n_sell:
+        base = np.zeros_like(base)
+    rem = n_sell - base.sum()
+    frac = lp - base
+    order = sorted(range(len(idx)), key=lambda j: (-frac[j], g.price[k, idx[j]]))
+    for j in order:
+        if rem <= 0:
+            break
+        base[j] += 1
+        rem -= 1
+    if rem > 0:
+        base[int(np.argmin([g.price[k, t] for t in idx]))] += rem
+    return {int(t): float(v) for t, v in zip(idx, base)}
+
+
+def _year_ok(prog: CohortProgram, x: np.ndarray, k: int, case: Case, choice: dict) -> bool:
+    """True when the sales ``choice`` (and the purchases they imply) keep year k within its purchase
+    limits and its cap (gross: prices; net: less the market values received)."""
+    for cls, sells in choice.items():
+        lim = case.limit_for(cls)
+        if lim is not None and sum(v[0] for v in sells.values()) > lim:
+            return False
+    cap_row = prog.cap_rows[k]
+    cap = prog.row_upper[cap_row] if cap_row >= 0 else INF
+    net = case.budget is not None and case.budget.basis == "net"
+    tot = 0.0
+    for cls, sells in choice.items():
+        g = prog.graphs[cls]
+        buys = _class_buys(prog, x, k, cls, sum(v[0] for v in sells.values()))
+        tot += sum(g.price[k, t] * v for t, v in buys.items())
+        if net:
+            tot -= sum(g.value[k, t, a] * v[0] for (t, a), v in sells.items())
+    return tot <= cap + 1e-6
+
+
+def _defer(prog: CohortProgram, x: np.ndarray, k: int, per_class: dict, ok) -> bool:
+    """Defer the least-forced sales (those the LP sold least of) until ``ok``; False if it never is."""
+    deferrable = []
+    for cls, sells in per_class.items():
+        for (t, a), v in sells.items():
+            jk = int(prog.cols[cls].keep[k][t, a])
+            js = int(prog.cols[cls].sell[k][t, a])
+            if jk >= 0 and v[0] > 0:
+                deferrable.append((x[js] - v[0] + 1, cls, (t, a)))
+    deferrable.sort(key=lambda c: (c[0], c[1], c[2]))
+    for _, cls, st in deferrable:
+        while per_class[cls][st][0] > 0 and not ok(per_class):
+            per_class[cls][st][0] -= 1
+        if ok(per_class):
+            return True
+    return ok(per_class)
+
+
+def _round_year(prog: CohortProgram, x: np.ndarray, k: int, case: Case, eager: int = 0) -> dict[int, float] | None:
+    """Whole-unit values for every column of year k, within its cap and limits; None if none found.
+
+    ``eager`` 0 rounds a fractional sale up from one half; 1 rounds every
+    fractional sale up while the cap allows (largest fraction first); 2 does
+    the same oldest state first.  Sales brought forward make room in the
+    years after, which is what a failed rounding usually lacks.
+    """
+    per_class, cands = _floors(prog, x, k)
     # decide extra sales: the LP's larger fractions first, while cap and limit allow
     if eager == 2:
         cands.sort(key=lambda c: (-c[2][1], -c[0], c[1], c[2]))
@@ -56,77 +125,19 @@ def _round_year(prog: CohortProgram, x: np.ndarray, k: int, case: Case, eager: i
         cands.sort(key=lambda c: (-c[0], c[1], c[2]))
     threshold = 0.5 if eager == 0 else 1e-6
 
-    def class_buys(cls, n_sell):
-        ci = prog.cols[cls]
-        g = prog.graphs[cls]
-        b = ci.buy[k]
-        idx = np.flatnonzero(b >= 0)
-        if n_sell == 0 or len(idx) == 0:
-            return {int(t): 0.0 for t in idx}
-        lp = np.array([x[b[t]] for t in idx])
-        base = np.floor(lp + 1e-6)
-        if base.sum() > n_sell:
-            base = np.zeros_like(base)
-        rem = n_sell - base.sum()
-        frac = lp - base
-        # largest remainder, cheaper type first on ties
-        order = sorted(range(len(idx)), key=lambda j: (-frac[j], g.price[k, idx[j]]))
-        for j in order:
-            if rem <= 0:
-                break
-            base[j] += 1
-            rem -= 1
-        if rem > 0:  # more sales than the LP planned buys: the rest buy the cheapest type
-            base[int(np.argmin([g.price[k, t] for t in idx]))] += rem
-        return {int(t): float(v) for t, v in zip(idx, base)}
-
-    def year_spend(choice):
-        tot = 0.0
-        for cls, sells in choice.items():
-            g = prog.graphs[cls]
-            n_sell = sum(v[0] for v in sells.values())
-            buys = class_buys(cls, n_sell)
-            tot += sum(g.price[k, t] * v for t, v in buys.items())
-            if case.budget is not None and case.budget.basis == "net":
-                tot -= sum(g.value[k, t, a] * v[0] for (t, a), v in sells.items())
-        return tot
-
-    cap_row = prog.cap_rows[k]
-    cap = prog.row_upper[cap_row] if cap_row >= 0 else INF
-
-    def limit_ok(cls, n_sell):
-        lim = case.limit_for(cls)
-        return lim is None or n_sell <= lim
-
     def ok(choice):
-        for cls, sells in choice.items():
-            if not limit_ok(cls, sum(v[0] for v in sells.values())):
-                return False
-        return year_spend(choice) <= cap + 1e-6
+        return _year_ok(prog, x, k, case, choice)
 
-    if not ok(per_class):
-        # the floors (and the forced sales) alone break the cap or limit: defer the least-forced sales
-        deferrable = []
-        for cls, sells in per_class.items():
-            for (t, a), v in sells.items():
-                jk = int(prog.cols[cls].keep[k][t, a])
-                js = int(prog.cols[cls].sell[k][t, a])
-                if jk >= 0 and v[0] > 0:
-                    deferrable.append((x[js] - v[0] + 1, cls, (t, a)))
-        deferrable.sort(key=lambda c: (c[0], c[1], c[2]))
-        for _, cls, st in deferrable:
-            while per_class[cls][st][0] > 0 and not ok(per_class):
-                per_class[cls][st][0] -= 1
-            if ok(per_class):
-                break
-        if not ok(per_class):
-            return None
+    # the floors (and the forced sales) alone may break the cap or limit: then defer some
+    if not ok(per_class) and not _defer(prog, x, k, per_class, ok):
+        return None
     for frac, cls, st in cands:
         if frac < threshold:
             continue
         per_class[cls][st][0] += 1
         if not ok(per_class):
             per_class[cls][st][0] -= 1
+    vals: dict[int, float] = {}
     for cls, sells in per_class.items():
         ci = prog.cols[cls]
         n_sell = 0.0
@@ -137,7 +148,7 @@ def _round_year(prog: CohortProgram, x: np.ndarray, k: int, case: Case, eager: i
             if jk >= 0:
                 vals[jk] = n_in - sv
             n_sell += sv
-        for t, v in class_buys(cls, n_sell).items():
+        for t, v in _class_buys(prog, x, k, cls, n_sell).items():
             vals[int(ci.buy[k][t])] = v
     return vals
 

@@ -251,7 +251,9 @@ def summary_html(plan, case: Case) -> str:
         fig_box("Status", plan.status, STATUS_WORDS.get(plan.status, "") + f" ({plan.method})",
                 warn=plan.status != "optimal"),
         fig_box("Optimality gap", pct(plan.gap, 2) if plan.status not in ("infeasible", "unsolved") else "—",
-                f"proven lower bound {money(plan.lower_bound)}" if plan.status == "feasible"
+                f"proven lower bound {money(plan.lower_bound)}"
+                + (f" (from the {plan.provenance.lower_bound})" if plan.provenance and plan.provenance.lower_bound
+                   else "") if plan.status == "feasible"
                 else ("no gap: the plan is optimal" if plan.status == "optimal" else "")),
     ]
     if plan.premium is not None:
@@ -413,7 +415,9 @@ def plan_charts(plan, case: Case, life_tables) -> list[tuple[str, str, str, str]
     if cap_svg is not None:
         out.append(("chart-cap-cost", "Cost of each year's cap",
                     "For each capped year: how much the present cost of the plan would fall per 1 of extra cap "
-                    "money in that year (a shadow price from the linear relaxation of the plan). Tall bars mark "
+                    "money in that year (a shadow price"
+                    + (f" from the {plan.provenance.shadow_prices}" if plan.provenance and plan.provenance.shadow_prices
+                       else "") + "). Tall bars mark "
                     "the years where the cap costs most; a bar of 0 means the cap does not bind.",
                     cap_svg))
     return out

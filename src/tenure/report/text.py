@@ -90,7 +90,9 @@ def plan_summary(plan, case: Case, out_dir: str | None = None, written: list[str
     lines = [f"{s.title or 'plan'} — {plan.method}, status {plan.status}", rule()]
     lines.append(f"present cost (time 0, {s.start_year} currency): {money(plan.present_cost)}")
     if plan.status == "feasible":
-        lines.append(f"proven lower bound {money(plan.lower_bound)}  (gap {plan.gap:.3%})")
+        bound_from = plan.provenance.lower_bound if plan.provenance is not None else ""
+        lines.append(f"proven lower bound {money(plan.lower_bound)}  (gap {plan.gap:.3%}"
+                     + (f"; bound from the {bound_from})" if bound_from else ")"))
     if plan.premium is not None:
         lines.append(f"premium over the uncapped plan: {money(plan.premium)}  (uncapped {money(plan.uncapped_cost)})")
     by_cls: dict[str, Counter] = {}
@@ -120,7 +122,9 @@ def plan_summary(plan, case: Case, out_dir: str | None = None, written: list[str
                      + (": " + ", ".join(str(y.year) for y in tight[:12]) if tight else ""))
         priced = sorted((y for y in plan.years if y.shadow_price), key=lambda y: -y.shadow_price)[:5]
         if priced:
-            lines.append("  dearest caps (present-cost saving per extra unit of money, LP relaxation): "
+            source = plan.provenance.shadow_prices if plan.provenance is not None else ""
+            lines.append("  dearest caps (present-cost saving per extra unit of money"
+                         + (f", {source}" if source else "") + "): "
                          + ", ".join(f"{y.year} {y.shadow_price:.3f}" for y in priced))
     if plan.status in ("infeasible", "unsolved"):
         lines.append("")
