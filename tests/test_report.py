@@ -83,7 +83,7 @@ def chromium() -> str:
     exe = shutil.which("chromium") or shutil.which("chromium-browser")
     if exe is None:
         pytest.fail("Chromium is not installed: the report cannot be rendered. Install the Debian package "
-                    "(apt-get update && apt-get install -y chromium); .ci/run does this in CI.")
+                    "(apt-get update && apt-get install -y chromium); scripts/test does this.")
     return exe
 
 
