@@ -212,3 +212,39 @@ def test_policy_frame_matches_the_recursion():
 def test_importing_tenure_keeps_solve_the_function():
     assert callable(tenure.solve) and tenure.solve.__module__ == "tenure.api"
     assert os.path.basename(tenure.api.__file__) == "api.py"
+
+
+# ---------------------------------------------------------------------------
+# compare and sweep: the override paths agree with rebuilding the case from frames
+# ---------------------------------------------------------------------------
+def _doc(result):
+    """The JSON document of a comparison or sweep (typed results give it through to_dict())."""
+    return result.to_dict() if hasattr(result, "to_dict") else result
+
+
+def _solved_at_rate(case, rate: float) -> float:
+    parts = case.frames()
+    parts["study"]["discount_rate"] = rate
+    return round(tenure.solve(tenure.Case.from_frames(**parts)).present_cost, 2)
+
+
+def test_sweep_points_equal_cases_rebuilt_from_frames():
+    # source: separate solves of the case rebuilt with the swept rate (Case.from_frames), not the override code
+    case = tenure.load_case(UNCAPPED)
+    doc = _doc(tenure.sweep(case, vary=["study.discount_rate=0.03:0.07:2"]))
+    costs = {p["values"]["study.discount_rate"]: p["present_cost"] for p in doc["points"]}
+    assert sorted(costs) == [0.03, 0.07]
+    for rate, cost in costs.items():
+        assert cost == pytest.approx(_solved_at_rate(case, rate), abs=0.011)
+
+
+def test_compare_of_a_scenario_object_equals_the_case_rebuilt_from_frames():
+    from tenure.model import Scenario
+
+    case = tenure.load_case(UNCAPPED)
+    dear = Scenario(id="dear-money", note="7 % real", set={"study.discount_rate": 0.07})
+    doc = _doc(tenure.compare(case, [dear]))
+    rows = {r["id"]: r for r in doc["scenarios"]}
+    assert list(rows) == ["base", "dear-money"]
+    assert rows["dear-money"]["present_cost"] == pytest.approx(_solved_at_rate(case, 0.07), abs=0.011)
+    assert rows["base"]["present_cost"] == pytest.approx(round(tenure.solve(case).present_cost, 2), abs=0.011)

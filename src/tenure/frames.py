@@ -188,7 +188,10 @@ def inventory_frame(case: Case):
 
 
 def case_frames(case: Case) -> dict[str, Any]:
-    """Every argument of :func:`case_from_frames` for this case, so ``case_from_frames(**case_frames(c))`` rebuilds it."""
+    """Every argument of :func:`case_from_frames` for this case.
+
+    ``case_from_frames(**case_frames(c))`` rebuilds ``c`` (the same model objects).
+    """
     import copy
 
     raw = case.raw

@@ -170,7 +170,8 @@ def units_sheet(ws, plan, case: Case):
             sh.put(head + [None, "keep", None, None, None, None, None, None, None, cent(u.present_cost)], fmt=fmt)
         for ev in u.events:
             sh.put(head + [ev.year, ev.action, ev.from_type, ev.from_age, ev.type, cent(ev.price),
-                           cent(ev.market_value), cent(ev.defer_cost), cent(ev.advance_cost), cent(u.present_cost)], fmt=fmt)
+                           cent(ev.market_value), cent(ev.defer_cost), cent(ev.advance_cost),
+                           cent(u.present_cost)], fmt=fmt)
     sh.finish(freeze="B2")
 
 
