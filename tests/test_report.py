@@ -6,7 +6,7 @@ so some years are over them) with made-up shadow prices, a premium, a gap and
 a shortfall pasted on: the writers must draw whatever a plan says.  When
 ``tenure.fleet`` exists, a real capped solve is rendered too.
 
-Chromium is the Debian package (``.ci/run`` installs it).  Without it the
+Chromium is the Debian package (``scripts/test`` installs it).  Without it the
 browser tests fail, they do not skip: a report nobody has rendered is not
 tested.
 """
