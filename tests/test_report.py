@@ -6,14 +6,14 @@ so some years are over them) with made-up shadow prices, a premium, a gap and
 a shortfall pasted on: the writers must draw whatever a plan says.  When
 ``tenure.fleet`` exists, a real capped solve is rendered too.
 
-Chromium is the Debian package (``.ci/run`` installs it).  Without it the
+Chromium is the Debian package (``scripts/test`` installs it).  Without it the
 browser tests fail, they do not skip: a report nobody has rendered is not
 tested.
 """
 
 from __future__ import annotations
 
-import importlib.util
+import io
 import json
 import re
 import shutil
@@ -22,6 +22,7 @@ import tempfile
 from dataclasses import replace
 from pathlib import Path
 
+import openpyxl
 import pytest
 
 from casekit import DEMO, UNCAPPED
@@ -34,7 +35,6 @@ from tenure.report.text import CAUTION
 from tenure.scenarios import Comparison, RegretTable, SafeAction, ScenarioResult
 from tenure.solve import solve, solve_uncapped
 
-openpyxl = pytest.importorskip("openpyxl")
 
 CHROMIUM_FLAGS = ("--headless", "--no-sandbox", "--disable-gpu", "--disable-quic", "--no-first-run",
                   "--disable-background-networking", "--disable-component-update", "--disable-sync")
@@ -84,7 +84,7 @@ def chromium() -> str:
     exe = shutil.which("chromium") or shutil.which("chromium-browser")
     if exe is None:
         pytest.fail("Chromium is not installed: the report cannot be rendered. Install the Debian package "
-                    "(apt-get update && apt-get install -y chromium); .ci/run does this in CI.")
+                    "(apt-get update && apt-get install -y chromium); scripts/test does this.")
     return exe
 
 
@@ -248,7 +248,15 @@ def test_infeasible_and_empty_plans_render(capped, tmp_path):
     empty = bad.with_(years=(), units=(), by_class={}, present_cost=float("nan"))
     page = documents.plan_html(empty, case)
     assert tuple(figures(page)) == UNCAPPED_CHARTS
-    documents.plan_xlsx(empty, case)
+    book = openpyxl.load_workbook(io.BytesIO(documents.plan_xlsx(empty, case)))
+    assert book.sheetnames == ["summary", "years", "units", "policy", "assumptions"]
+    summary = {r[0]: r[1] for r in book["summary"].iter_rows(min_row=2, values_only=True) if r[0]}
+    # no plan: the status and the shortfall are there, the cost cell is empty (not NaN), nothing was bought
+    assert summary["status"] == "infeasible" and summary["present cost"] is None
+    assert summary["shortfall 2027"] == 420000 and summary["shortfall 2031"] == 15000
+    assert summary["replacements"] == 0 and summary["capital, all years"] == 0
+    assert [r[:3] for r in book["years"].iter_rows(min_row=2, values_only=True)] == [("total", 0, 0)]
+    assert book["units"].max_row == 1  # the header only
 
 
 def test_unit_years_follow_the_schedule(demo):
@@ -437,9 +445,8 @@ def test_compare_report_of_a_scenario_without_a_plan(tmp_path):
 
 
 # ---------------------------------------------------------------------------
-# a real capped solve, once the fleet integer program exists
+# a real capped solve
 # ---------------------------------------------------------------------------
-@pytest.mark.skipif(importlib.util.find_spec("tenure.fleet") is None, reason="tenure.fleet not written yet")
 def test_real_capped_plan_report(tmp_path):
     case = load_case(DEMO)
     plan = solve(case, time_limit=60, gap=0.01, progress=False)

@@ -471,7 +471,7 @@ def test_two_local_workers_give_identical_results(serial_results):
 
 def test_dask_local_cluster_gives_identical_results(serial_results):
     # source: issue 5 (--cluster sends the solves to a Dask scheduler; same results)
-    distributed = pytest.importorskip("distributed")
+    import distributed  # a dependency of tenure (pyproject.toml), so never missing
     case, sweep1, compare1 = serial_results
     with distributed.LocalCluster(n_workers=1, processes=False, host="127.0.0.1", protocol="tcp",
                                   dashboard_address=None) as cluster:
@@ -527,7 +527,6 @@ def test_frames_have_the_csv_columns(fleet, fleet_comparison):
 # ---------------------------------------------------------------------------
 def test_compare_on_a_small_capped_case_equals_separate_solves():
     # source: separate solves with tenure.solve.solve (fleet integer program under a cap and a limit)
-    pytest.importorskip("tenure.fleet")
     doc = fleet_doc()
     doc["unit"][1]["count"] = 3
     doc["budget"] = {"cap": 230000}
@@ -548,7 +547,6 @@ def case_scenario(case, sid) -> Scenario:
 
 def test_compare_runs_on_the_capped_demo(tmp_path):
     # source: the demo case's own scenarios (cases/quillmere-fleet.toml); separate solve of bev-late
-    pytest.importorskip("tenure.fleet")
     # a 2 % gap keeps the test fast (the fix-and-relax plan is enough); the separate solve uses the same
     rc = main(["compare", str(DEMO), "--scenario", "bev-late", "--out", str(tmp_path), "--gap", "0.02",
                "--quiet"])

@@ -33,12 +33,15 @@ from __future__ import annotations
 
 import math
 from dataclasses import dataclass, field
+from typing import TYPE_CHECKING
 
-import networkx as nx
 import numpy as np
 
 from . import curves, life, money
 from .model import Case
+
+if TYPE_CHECKING:  # networkx loads only when the view is built (tests, benchmarks), not on every command
+    import networkx as nx
 
 KEEP = -1
 #: relative tolerance under which two costs count as tied (keep wins, then case order)
@@ -379,6 +382,8 @@ def to_networkx(g: StageGraph, starts) -> nx.DiGraph:
     (``"keep"``, ``"replace"`` or ``"end"``).  Built from the same tables as the
     recursion.
     """
+    import networkx as nx
+
     r = g.reachable(starts)
     G = nx.DiGraph()
     H = g.horizon

@@ -8,14 +8,14 @@ from __future__ import annotations
 
 import argparse
 import json
-import math
 import sys
 from pathlib import Path
 
-from . import __version__
-from .case import CaseError, load_case
+from . import __version__, api
+from .case import CaseError
 from .plan import NoPlanError
 from .report import text
+from .textutil import did_you_mean
 
 EXIT_BAD_INPUT = 2
 EXIT_INFEASIBLE = 3
@@ -26,7 +26,11 @@ class UsageError(Exception):
 
 
 def _case(path: str):
-    return load_case(Path(path))
+    return api.load_case(Path(path))
+
+
+def _near(value: str, allowed: list[str]) -> str:
+    return did_you_mean(value, allowed)
 
 
 # ---------------------------------------------------------------------------
@@ -38,23 +42,17 @@ def cmd_check(args) -> int:
 
 
 def cmd_life(args) -> int:
-    from .life import life_table
-
     case = _case(args.case)
     ids = [t.id for t in case.types]
     if args.type is not None and args.type not in ids:
-        import difflib
-
-        near = difflib.get_close_matches(args.type, ids, n=1)
-        hint = f"; did you mean '{near[0]}'?" if near else ""
-        raise UsageError(f"--type {args.type!r}: no such asset type in {case.source}{hint} (types: {', '.join(ids)})")
+        raise UsageError(f"--type {args.type!r}: no such asset type in {case.source}{_near(args.type, ids)} "
+                         f"(types: {', '.join(ids)})")
     if not (0 <= args.tolerance < 1):
         raise UsageError(f"--tolerance {args.tolerance!r}: must be a fraction in [0, 1), e.g. 0.02")
     year = case.study.start_year if args.year is None else args.year
     if not (1900 <= year <= 2300):
         raise UsageError(f"--year {year}: must be a calendar year")
-    chosen = [case.type(args.type)] if args.type else [t for t in case.types if t.buyable(year)] or list(case.types)
-    tables = [life_table(t, case.study.discount_rate, case.study.start_year, year, args.tolerance) for t in chosen]
+    tables = api.life_tables(case, args.type, year, args.tolerance)
     if args.json:
         payload = tables[0].to_dict() if len(tables) == 1 else [lt.to_dict() for lt in tables]
         print(json.dumps(payload, indent=2))
@@ -69,23 +67,15 @@ def cmd_life(args) -> int:
     return 0
 
 
-def _near(value: str, allowed: list[str]) -> str:
-    import difflib
-
-    near = difflib.get_close_matches(value, allowed, n=1)
-    return f"; did you mean '{near[0]}'?" if near else ""
-
-
 def cmd_plan(args) -> int:
     from .report.tables import write_plan
-    from .solve import solve
 
     case = _case(args.case)
     if args.time_limit <= 0:
         raise UsageError(f"--time-limit {args.time_limit!r}: must be a number of seconds > 0")
     if not (0 <= args.gap < 1):
         raise UsageError(f"--gap {args.gap!r}: must be a fraction in [0, 1), e.g. 0.005")
-    plan = solve(case, solver=args.solver, time_limit=args.time_limit, gap=args.gap, progress=not args.quiet)
+    plan = api.solve(case, solver=args.solver, time_limit=args.time_limit, gap=args.gap, progress=not args.quiet)
     out = Path(args.out)
     written = [p.name for p in write_plan(plan, out)]
     written += _extra_writers(plan, case, out, progress=not args.quiet)
@@ -102,10 +92,8 @@ def _extra_writers(plan, case, out: Path, progress: bool = True) -> list[str]:
 
 
 def cmd_policy(args) -> int:
-    from . import chain
-
     case = _case(args.case)
-    classes = [c for c in case.classes]
+    classes = list(case.classes)
     if args.class_ not in classes:
         raise UsageError(f"--class {args.class_!r}: no such class in {case.source}{_near(args.class_, classes)} "
                          f"(classes: {', '.join(classes)})")
@@ -113,9 +101,7 @@ def cmd_policy(args) -> int:
     if args.type is not None and args.type not in ids:
         raise UsageError(f"--type {args.type!r}: not a type of class {args.class_!r}{_near(args.type, ids)} "
                          f"(types: {', '.join(ids)})")
-    g = chain.build_class_graph(case, args.class_)
-    sol = chain.backward(g)
-    print(text.policy_text(sol, case, [args.type] if args.type else ids))
+    print(text.policy_text(api.policy(case, args.class_), case, [args.type] if args.type else ids))
     return 0
 
 
@@ -131,32 +117,14 @@ def run_options(solver: str, time_limit: float, gap: float, workers: int) -> dic
     return {"solver": solver, "time_limit": float(time_limit), "gap": float(gap)}
 
 
-VARY_SYNTAX = "PATH=LOW:HIGH:STEPS, e.g. asset_type.rt-bev.price_change=-0.07:-0.02:6"
-
-
 def parse_vary(text: str):
-    """``PATH=LOW:HIGH:STEPS`` → :class:`tenure.scenarios.Axis`; ValueError with a one-line message otherwise."""
-    from .scenarios import Axis
+    """``--vary PATH=LOW:HIGH:STEPS`` → :class:`tenure.scenarios.Axis`; ValueError naming the option otherwise."""
+    from .scenarios import axis_from_text
 
-    path, eq, rng = text.partition("=")
-    parts = rng.split(":")
-    if not eq or not path.strip() or len(parts) != 3:
-        raise ValueError(f"--vary {text!r}: expected {VARY_SYNTAX}")
     try:
-        low, high = float(parts[0]), float(parts[1])
-    except ValueError:
-        raise ValueError(f"--vary {text!r}: LOW and HIGH must be numbers ({VARY_SYNTAX})") from None
-    try:
-        steps = int(parts[2])
-    except ValueError:
-        raise ValueError(f"--vary {text!r}: STEPS must be a whole number ≥ 2 ({VARY_SYNTAX})") from None
-    if not (math.isfinite(low) and math.isfinite(high)):
-        raise ValueError(f"--vary {text!r}: LOW and HIGH must be finite numbers")
-    if steps < 2 and low != high:
-        raise ValueError(f"--vary {text!r}: STEPS must be a whole number ≥ 2 ({VARY_SYNTAX})")
-    if low > high:
-        raise ValueError(f"--vary {text!r}: LOW must not be above HIGH")
-    return Axis(path.strip(), low, high, max(steps, 1))
+        return axis_from_text(text)
+    except ValueError as exc:
+        raise ValueError(f"--vary {exc}") from None
 
 
 

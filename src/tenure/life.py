@@ -79,6 +79,27 @@ class LifeTable:
         return {"type": self.type, "year": int(self.year), "rows": rows, "economic_life": int(self.economic_life),
                 "min_eac": float(self.min_eac), "band": [int(self.band[0]), int(self.band[1])]}
 
+    def to_frame(self):
+        """The table as a DataFrame, one row per holding period N [years].
+
+        Columns: ``holding_years``, ``eac_capital``, ``eac_om``, ``eac_total``
+        [money/year], ``marginal_cost`` [money, at the end of year N],
+        ``economic_life`` (True on the least-EAC row) and ``near_optimal``
+        (True inside the band).  ``attrs`` holds ``type``, ``year``,
+        ``economic_life``, ``min_eac``, ``band`` and ``tolerance``.
+        """
+        import pandas as pd
+
+        n = np.asarray(self.years, dtype=int)
+        df = pd.DataFrame({"holding_years": n, "eac_capital": self.eac_capital, "eac_om": self.eac_om,
+                           "eac_total": self.eac_total, "marginal_cost": self.marginal,
+                           "economic_life": n == self.economic_life,
+                           "near_optimal": (n >= self.band[0]) & (n <= self.band[1])})
+        df.attrs.update(type=self.type, year=int(self.year), economic_life=int(self.economic_life),
+                        min_eac=float(self.min_eac), band=(int(self.band[0]), int(self.band[1])),
+                        tolerance=float(self.tolerance))
+        return df
+
 
 def eac_components(price: float, salvage, om, rate: float):
     """EAC of capital, of O&M and in total for holding periods N = 1 … n.

@@ -55,6 +55,13 @@ class Provenance:
         return {"method": self.method, "lower_bound": self.lower_bound, "shadow_prices": self.shadow_prices}
 
 
+#: columns of units.csv and Plan.events_frame()
+UNIT_COLUMNS = ("unit", "class", "start_type", "start_age", "year", "action", "from_type", "from_age", "type",
+                "price", "market_value", "defer_cost", "advance_cost")
+#: columns of years.csv and Plan.years_frame()
+YEAR_COLUMNS = ("year", "buys", "capital", "salvage", "om", "cap", "slack", "shadow_price", "buys_by_type")
+
+
 @dataclass(frozen=True)
 class Event:
     """A replacement: in ``year`` the unit of ``from_type``/``from_age`` is sold and a new ``type`` bought."""
@@ -165,6 +172,41 @@ class Plan:
     def premium(self) -> float | None:
         """Present-cost premium over the uncapped plan [money]."""
         return None if self.uncapped_cost is None else self.present_cost - self.uncapped_cost
+
+    # -- DataFrames (pandas is imported only when one is asked for) ---------
+    def events_frame(self):
+        """units.csv as a DataFrame: one row per unit and replacement (columns ``UNIT_COLUMNS``).
+
+        A unit never replaced gets one row with action ``keep`` and no year.
+        Money columns [money, undiscounted] are not rounded.
+        """
+        import pandas as pd
+
+        df = pd.DataFrame(list(event_rows(self)), columns=list(UNIT_COLUMNS))
+        for col in ("start_age", "year", "from_age"):
+            df[col] = df[col].astype("Int64")
+        return df
+
+    def units_frame(self):
+        """One row per unit: its start, its replacements, its end state and present cost [money, time 0]."""
+        import pandas as pd
+
+        rows = [(u.unit, u.class_, u.start_type, u.start_age, len(u.events),
+                 u.events[0].year if u.events else None, u.end_type, u.end_age, u.present_cost)
+                for u in self.units]
+        df = pd.DataFrame(rows, columns=["unit", "class", "start_type", "start_age", "replacements",
+                                         "first_replacement", "end_type", "end_age", "present_cost"])
+        df["first_replacement"] = df["first_replacement"].astype("Int64")
+        return df
+
+    def years_frame(self):
+        """years.csv as a DataFrame: one row per planning year (columns ``YEAR_COLUMNS``).
+
+        ``buys_by_type`` is a dict cell {type: units}; money [money, undiscounted] is not rounded.
+        """
+        import pandas as pd
+
+        return pd.DataFrame(list(year_rows(self)), columns=list(YEAR_COLUMNS))
 
     def with_(self, **kw) -> "Plan":
         return replace(self, **kw)
@@ -296,3 +338,20 @@ def assemble(case: Case, graphs: dict[str, StageGraph], groups: Sequence[PathGro
 
 def _unit_order(case: Case) -> list[str]:
     return [name for u in case.units for name in u.names()]
+
+
+def event_rows(plan: Plan):
+    """Rows of units.csv in ``UNIT_COLUMNS`` order, values unformatted (None where a cell is empty)."""
+    for u in plan.units:
+        head = (u.unit, u.class_, u.start_type, u.start_age)
+        if not u.events:
+            yield head + (None, "keep", u.start_type, u.start_age, u.start_type, None, None, None, None)
+        for e in u.events:
+            yield head + (e.year, e.action, e.from_type, e.from_age, e.type, e.price, e.market_value,
+                          e.defer_cost, e.advance_cost)
+
+
+def year_rows(plan: Plan):
+    """Rows of years.csv in ``YEAR_COLUMNS`` order, values unformatted (``buys_by_type`` a dict)."""
+    for y in plan.years:
+        yield (y.year, y.buys, y.capital, y.salvage, y.om, y.cap, y.slack, y.shadow_price, dict(y.buys_by_type))

@@ -36,6 +36,7 @@ from matplotlib.figure import Figure
 from matplotlib.ticker import FuncFormatter, MaxNLocator
 
 from ..model import Case
+from ..textutil import money
 
 # Okabe–Ito: blue, orange, bluish green, reddish purple, sky blue, vermillion, yellow, black
 OKABE_ITO = ("#0072B2", "#E69F00", "#009E73", "#CC79A7", "#56B4E9", "#D55E00", "#F0E442", "#000000")
@@ -116,7 +117,7 @@ def short_money(x: float, scale: MoneyScale) -> str:
     """A bar label in the axis' scale: '1.85 M', '372 k', '950'."""
     suffix = {"millions": " M", "thousands": " k"}.get(scale.word, "")
     if not suffix:
-        return f"{x:,.0f}"
+        return money(x)
     v = x / scale.divisor
     if abs(v) < 10:
         return f"{v:,.2f}{suffix}"

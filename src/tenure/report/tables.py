@@ -9,20 +9,11 @@ import csv
 import io
 from pathlib import Path
 
-from ..plan import Plan
+from ..plan import UNIT_COLUMNS, YEAR_COLUMNS, Plan, event_rows, year_rows
+from ..textutil import csv_cell
 from . import files
 
-UNIT_COLUMNS = ("unit", "class", "start_type", "start_age", "year", "action", "from_type", "from_age", "type",
-                "price", "market_value", "defer_cost", "advance_cost")
-YEAR_COLUMNS = ("year", "buys", "capital", "salvage", "om", "cap", "slack", "shadow_price", "buys_by_type")
-
-
-def _cell(x):
-    if x is None:
-        return ""
-    if isinstance(x, float):
-        return f"{x:.2f}"
-    return x
+__all__ = ["UNIT_COLUMNS", "YEAR_COLUMNS", "units_csv", "years_csv", "write_plan"]
 
 
 def units_csv(plan: Plan) -> str:
@@ -30,13 +21,8 @@ def units_csv(plan: Plan) -> str:
     buf = io.StringIO()
     w = csv.writer(buf, lineterminator="\n")
     w.writerow(UNIT_COLUMNS)
-    for u in plan.units:
-        head = (u.unit, u.class_, u.start_type, u.start_age)
-        if not u.events:
-            w.writerow(head + ("", "keep", u.start_type, u.start_age, u.start_type, "", "", "", ""))
-        for e in u.events:
-            w.writerow(head + (e.year, e.action, e.from_type, e.from_age, e.type, _cell(e.price),
-                               _cell(e.market_value), _cell(e.defer_cost), _cell(e.advance_cost)))
+    for row in event_rows(plan):
+        w.writerow([csv_cell(x) for x in row])
     return buf.getvalue()
 
 
@@ -45,11 +31,10 @@ def years_csv(plan: Plan) -> str:
     buf = io.StringIO()
     w = csv.writer(buf, lineterminator="\n")
     w.writerow(YEAR_COLUMNS)
-    for y in plan.years:
-        mix = ";".join(f"{t}:{n}" for t, n in y.buys_by_type.items())
-        shadow = "" if y.shadow_price is None else f"{y.shadow_price:.6f}"
-        w.writerow((y.year, y.buys, _cell(y.capital), _cell(y.salvage), _cell(y.om), _cell(y.cap), _cell(y.slack),
-                    shadow, mix))
+    for row in year_rows(plan):
+        *money, shadow, mix = row
+        w.writerow([csv_cell(x) for x in money] + ["" if shadow is None else f"{shadow:.6f}",
+                                                   ";".join(f"{t}:{n}" for t, n in mix.items())])
     return buf.getvalue()
 
 

@@ -10,15 +10,12 @@ from collections import Counter
 
 from ..life import LifeTable
 from ..model import Case
+from ..textutil import money
+
+__all__ = ["CAUTION", "money", "rule", "case_summary", "life_text", "plan_summary", "policy_text"]
 
 CAUTION = ("Planning aid only: inspections, manufacturer and regulatory retirement limits, and local "
            "procurement rules come first; decisions belong to qualified professionals.")
-
-
-def money(x: float | None, width: int = 0) -> str:
-    """Whole currency units with comma grouping; '—' for None."""
-    s = "—" if x is None else f"{x:,.0f}"
-    return s.rjust(width) if width else s
 
 
 def rule(width: int = 72) -> str:

@@ -24,6 +24,7 @@ from openpyxl.utils import get_column_letter
 
 from .. import __version__
 from ..model import Case
+from ..textutil import cent
 from .text import CAUTION
 
 MONEY = "#,##0;-#,##0"
@@ -35,9 +36,6 @@ SECTION_FONT = Font(bold=True, size=12, color="0072B2")
 TOTAL_FONT = Font(bold=True)
 
 
-def _r(x):
-    """Money rounded to the cent as in plan.json (None stays empty)."""
-    return None if x is None else round(float(x), 2)
 
 
 class _Sheet:
@@ -105,17 +103,17 @@ def summary_sheet(ws, plan, case: Case):
         ("plan found by", plan.provenance.method if plan.provenance else "", ""),
         ("lower bound from", plan.provenance.lower_bound if plan.provenance else "", ""),
         ("shadow prices from", plan.provenance.shadow_prices if plan.provenance else "", "empty when not computed"),
-        ("present cost", _r(plan.present_cost), f"constant {cur} currency, present worth at the start of {cur}"),
-        ("proven lower bound", _r(plan.lower_bound), f"constant {cur} currency"),
+        ("present cost", cent(plan.present_cost), f"constant {cur} currency, present worth at the start of {cur}"),
+        ("proven lower bound", cent(plan.lower_bound), f"constant {cur} currency"),
         ("optimality gap", plan.gap, "fraction of the present cost"),
-        ("uncapped present cost", _r(plan.uncapped_cost), "empty when not computed"),
-        ("premium over the uncapped plan", _r(plan.premium), f"constant {cur} currency"),
+        ("uncapped present cost", cent(plan.uncapped_cost), "empty when not computed"),
+        ("premium over the uncapped plan", cent(plan.premium), f"constant {cur} currency"),
         ("replacements", sum(len(u.events) for u in plan.units), "units bought over the horizon"),
-        ("capital, all years", _r(sum(_r(y.capital) for y in plan.years)), "undiscounted purchase prices"),
-        ("market value received, all years", _r(sum(_r(y.salvage) for y in plan.years)), "undiscounted"),
-        ("O&M, all years", _r(sum(_r(y.om) for y in plan.years)), "undiscounted"),
+        ("capital, all years", cent(sum(cent(y.capital) for y in plan.years)), "undiscounted purchase prices"),
+        ("market value received, all years", cent(sum(cent(y.salvage) for y in plan.years)), "undiscounted"),
+        ("O&M, all years", cent(sum(cent(y.om) for y in plan.years)), "undiscounted"),
         ("end of the horizon", plan.end_year, f"end value rule: {plan.end_value}"),
-        ("market value held at the end", _r(plan.end_market_value), f"at {plan.end_year} prices"),
+        ("market value held at the end", cent(plan.end_market_value), f"at {plan.end_year} prices"),
         ("cap basis", plan.basis, ""),
     ]
     fmt_for = {"present cost": MONEY, "proven lower bound": MONEY, "uncapped present cost": MONEY,
@@ -125,9 +123,9 @@ def summary_sheet(ws, plan, case: Case):
     for item, value, note in rows:
         sh.put((item, value, note), fmt={1: fmt_for[item]} if item in fmt_for else None)
     for cls, v in (plan.by_class or {}).items():
-        sh.put((f"present cost, {cls}", _r(v), f"constant {cur} currency"), fmt={1: MONEY})
+        sh.put((f"present cost, {cls}", cent(v), f"constant {cur} currency"), fmt={1: MONEY})
     for y, x in plan.shortfall or ():
-        sh.put((f"shortfall {y}", _r(x), "extra capital needed for a plan to fit the caps"), fmt={1: MONEY})
+        sh.put((f"shortfall {y}", cent(x), "extra capital needed for a plan to fit the caps"), fmt={1: MONEY})
     sh.blank()
     sh.put(("caution", CAUTION, ""))
     sh.put(("made by", f"tenure {__version__}", ""))
@@ -151,11 +149,11 @@ def years_sheet(ws, plan, case: Case):
     sh.head(head)
     fmt = {2: MONEY, 3: MONEY, 4: MONEY, 5: MONEY, 6: MONEY, 7: MONEY, 8: SHADOW}
     for y in plan.years:
-        cap, sal = _r(y.capital), _r(y.salvage)
-        sh.put([y.year, y.buys, cap, _r(y.cap), _r(y.slack), _r(y.om), sal, _r(cap - sal), y.shadow_price]
+        cap, sal = cent(y.capital), cent(y.salvage)
+        sh.put([y.year, y.buys, cap, cent(y.cap), cent(y.slack), cent(y.om), sal, cent(cap - sal), y.shadow_price]
                + [y.buys_by_type.get(t, 0) for t in bought], fmt=fmt)
-    tot = [_r(sum(_r(getattr(y, f)) for y in plan.years)) for f in ("capital", "om", "salvage")]
-    sh.put(["total", sum(y.buys for y in plan.years), tot[0], None, None, tot[1], tot[2], _r(tot[0] - tot[2]), None]
+    tot = [cent(sum(cent(getattr(y, f)) for y in plan.years)) for f in ("capital", "om", "salvage")]
+    sh.put(["total", sum(y.buys for y in plan.years), tot[0], None, None, tot[1], tot[2], cent(tot[0] - tot[2]), None]
            + [sum(y.buys_by_type.get(t, 0) for y in plan.years) for t in bought], fmt=fmt, font=TOTAL_FONT)
     sh.finish()
 
@@ -172,10 +170,11 @@ def units_sheet(ws, plan, case: Case):
     for u in plan.units:
         head = [u.unit, u.class_, u.start_type, u.start_age]
         if not u.events:
-            sh.put(head + [None, "keep", None, None, None, None, None, None, None, _r(u.present_cost)], fmt=fmt)
+            sh.put(head + [None, "keep", None, None, None, None, None, None, None, cent(u.present_cost)], fmt=fmt)
         for ev in u.events:
-            sh.put(head + [ev.year, ev.action, ev.from_type, ev.from_age, ev.type, _r(ev.price),
-                           _r(ev.market_value), _r(ev.defer_cost), _r(ev.advance_cost), _r(u.present_cost)], fmt=fmt)
+            sh.put(head + [ev.year, ev.action, ev.from_type, ev.from_age, ev.type, cent(ev.price),
+                           cent(ev.market_value), cent(ev.defer_cost), cent(ev.advance_cost),
+                           cent(u.present_cost)], fmt=fmt)
     sh.finish(freeze="B2")
 
 

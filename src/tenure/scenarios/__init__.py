@@ -14,11 +14,11 @@ from .compare import BASE_NOTE, Comparison, EarlyDifference, SafeAction, Scenari
 from .overrides import (INTEGER_FIELDS, SCENARIO_FILE_KEYS, apply_overrides, case_with, coerce,
                         read_scenario_file, valid_paths)
 from .recost import CAP_TOL, Recost, RegretTable, recost, regret_table
-from .sweep import (QUANTILES, Axis, CostSummary, Sensitivity, Sweep, SweepBase, SweepDraw, SweepInput, draw,
+from .sweep import (AXIS_SYNTAX, QUANTILES, Axis, axis_from_text, CostSummary, Sensitivity, Sweep, SweepBase, SweepDraw, SweepInput, draw,
                     sweep)
 from .tasks import first_year_actions, make_task, run_task
 
-__all__ = ["BASE_NOTE", "CAP_TOL", "INTEGER_FIELDS", "QUANTILES", "SCENARIO_FILE_KEYS", "Axis", "Comparison",
+__all__ = ["AXIS_SYNTAX", "axis_from_text", "BASE_NOTE", "CAP_TOL", "INTEGER_FIELDS", "QUANTILES", "SCENARIO_FILE_KEYS", "Axis", "Comparison",
            "CostSummary", "EarlyDifference", "Recost", "RegretTable", "SafeAction", "ScenarioResult", "Sensitivity",
            "Sweep", "SweepBase", "SweepDraw", "SweepInput",
            "apply_overrides", "case_with", "coerce", "compare", "draw", "first_year_actions", "make_task",

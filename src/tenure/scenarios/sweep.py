@@ -184,6 +184,32 @@ class Axis:
         return [coerce(self.path, x) for x in np.linspace(self.low, self.high, self.steps)]
 
 
+AXIS_SYNTAX = "PATH=LOW:HIGH:STEPS, e.g. asset_type.rt-bev.price_change=-0.07:-0.02:6"
+
+
+def axis_from_text(text: str) -> Axis:
+    """A grid axis from ``"PATH=LOW:HIGH:STEPS"``; ValueError with a one-line message otherwise."""
+    path, eq, rng = text.partition("=")
+    parts = rng.split(":")
+    if not eq or not path.strip() or len(parts) != 3:
+        raise ValueError(f"{text!r}: expected {AXIS_SYNTAX}")
+    try:
+        low, high = float(parts[0]), float(parts[1])
+    except ValueError:
+        raise ValueError(f"{text!r}: LOW and HIGH must be numbers ({AXIS_SYNTAX})") from None
+    try:
+        steps = int(parts[2])
+    except ValueError:
+        raise ValueError(f"{text!r}: STEPS must be a whole number ≥ 2 ({AXIS_SYNTAX})") from None
+    if not (math.isfinite(low) and math.isfinite(high)):
+        raise ValueError(f"{text!r}: LOW and HIGH must be finite numbers")
+    if steps < 2 and low != high:
+        raise ValueError(f"{text!r}: STEPS must be a whole number ≥ 2 ({AXIS_SYNTAX})")
+    if low > high:
+        raise ValueError(f"{text!r}: LOW must not be above HIGH")
+    return Axis(path.strip(), low, high, max(steps, 1))
+
+
 def draw(uncertain: Sequence[Uncertain], samples: int, seed: int) -> np.ndarray:
     """``samples × len(uncertain)`` draws from one ``default_rng(seed)``, input by input.
 
