@@ -102,6 +102,9 @@ class Plan:
         Present cost of the best plan without caps and limits, for the premium.
     shortfall : tuple of (year, extra_capital)
         Least extra capital per year that makes an infeasible case feasible.
+    tax_rate : float or None
+        Set when the present cost is after tax (docs/conventions.md, "Income
+        tax"); the yearly capital, market value and O&M stay before tax.
     """
 
     status: str
@@ -121,6 +124,7 @@ class Plan:
     message: str = ""
     stats: dict = field(default_factory=dict)
     forcing_units: tuple = ()
+    tax_rate: float | None = None
 
     @property
     def success(self) -> bool:
@@ -165,6 +169,8 @@ class Plan:
             "stats": self.stats,
             "message": self.message,
         }
+        if self.tax_rate is not None:
+            d["tax_rate"] = self.tax_rate
         if self.status in ("infeasible", "unsolved") or self.shortfall:
             d["shortfall"] = [{"year": y, "extra_capital": _r(x)} for y, x in self.shortfall]
             d["forcing_units"] = list(self.forcing_units)
@@ -253,7 +259,7 @@ def assemble(case: Case, graphs: dict[str, StageGraph], groups: Sequence[PathGro
                 gap=float(max(gap, 0.0)), years=tuple(years), units=tuple(units), end_year=y0 + H,
                 end_value=s.end_value, end_market_value=float(end_mv), by_class=by_class,
                 basis=budget.basis if budget is not None else "gross", uncapped_cost=uncapped_cost,
-                shortfall=tuple(shortfall), message=message, stats=dict(stats or {}))
+                shortfall=tuple(shortfall), message=message, stats=dict(stats or {}), tax_rate=s.tax_rate)
 
 
 def _unit_order(case: Case) -> list[str]:

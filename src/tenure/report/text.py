@@ -10,6 +10,7 @@ from collections import Counter
 
 from ..life import LifeTable
 from ..model import Case
+from . import taxnote as _taxnote
 
 CAUTION = ("Planning aid only: inspections, manufacturer and regulatory retirement limits, and local "
            "procurement rules come first; decisions belong to qualified professionals.")
@@ -89,6 +90,8 @@ def plan_summary(plan, case: Case, out_dir: str | None = None, written: list[str
     s = case.study
     lines = [f"{s.title or 'plan'} — {plan.method}, status {plan.status}", rule()]
     lines.append(f"present cost (time 0, {s.start_year} currency): {money(plan.present_cost)}")
+    if s.tax_rate is not None:
+        lines.append(f"{_taxnote.tax_line(case)}")
     if plan.status == "feasible":
         lines.append(f"proven lower bound {money(plan.lower_bound)}  (gap {plan.gap:.3%})")
     if plan.premium is not None:
