@@ -18,6 +18,7 @@ from __future__ import annotations
 
 import copy
 import math
+from pathlib import Path
 
 import numpy as np
 import numpy_financial as npf
@@ -474,3 +475,70 @@ def test_valid_tax_fields_build_the_model():
     assert case.types[1].depreciation == Depreciation(method="table", rates=(0.5, 0.3, 0.2))
     assert case.types[0].depreciation.describe() == "declining balance 20% over 10 years, switch to straight line"
     assert copy.deepcopy(case.types[1].depreciation).describe() == "table of 3 years"
+
+
+# ---------------------------------------------------------------------------
+# 7. what the commands and reports say
+# ---------------------------------------------------------------------------
+RIDGEBACK = Path(__file__).resolve().parents[1] / "cases" / "ridgeback-contractor.toml"
+
+
+def _cli(capsys, *argv):
+    from tenure import cli
+
+    code = cli.main([str(a) for a in argv])
+    out, err = capsys.readouterr()
+    return code, out, err
+
+
+def test_life_prints_the_after_tax_table_of_the_demo(capsys):
+    """The printed after-tax least EAC is life_table's, whose pieces the ATCF-table test checks."""
+    from tenure.case import load_case
+
+    case = load_case(RIDGEBACK)
+    s = case.study
+    lt = life.life_table(case.type("pickup"), s.discount_rate, s.start_year, tax_rate=s.tax_rate)
+    code, out, _ = _cli(capsys, "life", RIDGEBACK, "--type", "pickup")
+    assert code == 0
+    assert "After-tax economic life of pickup" in out and "straight line 6 years, salvage 10%" in out
+    assert f"economic life {lt.economic_life} years, least EAC {lt.min_eac:,.2f}" in out
+    assert "EAC shield" in out
+
+
+def test_life_compare_tax_shows_both_lives(capsys):
+    from tenure.case import load_case
+
+    case = load_case(RIDGEBACK)
+    s = case.study
+    t = case.type("ex-30t")
+    before = life.life_table(t, s.discount_rate, s.start_year)
+    after = life.life_table(t, s.discount_rate, s.start_year, tax_rate=s.tax_rate)
+    assert before.economic_life != after.economic_life  # the demo shows the tax moving the economic life
+    code, out, _ = _cli(capsys, "life", RIDGEBACK, "--type", "ex-30t", "--compare-tax")
+    assert code == 0
+    assert f"{before.eac_total[0]:,.2f}" in out and f"{after.eac_total[0]:,.2f}" in out
+    assert (f"economic life before tax {before.economic_life} years (B), after tax at 26.0% "
+            f"{after.economic_life} years (A)") in out
+
+
+def test_life_compare_tax_on_a_before_tax_case_is_a_usage_error(capsys, tmp_path):
+    from casekit import UNCAPPED
+
+    code, _, err = _cli(capsys, "life", UNCAPPED, "--compare-tax")
+    assert code == 2
+    assert "no [study] tax_rate" in err and "Traceback" not in err
+
+
+def test_plan_and_report_say_after_tax_with_rate_and_methods(tmp_path):
+    from tenure.case import load_case
+    from tenure.report import html, taxnote, text
+
+    case = load_case(RIDGEBACK)
+    plan = solve(build_case(dict(case.raw) | {"budget": {}}, source=case.source))
+    assert plan.to_dict()["tax_rate"] == 0.26
+    summary = text.plan_summary(plan, case)
+    assert "after-tax at rate 26.0%" in summary and "caps are on purchase prices" in summary
+    page = html.assumptions_html(case) + html.summary_html(plan, case)
+    assert "after-tax at rate 26.0%" in page
+    assert "MACRS 7-year" in page and "MACRS 5-year" in page and "straight line 6 years" in page
+    assert taxnote.depreciation_html(build_case(base_doc())) == ""
