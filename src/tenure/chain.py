@@ -13,7 +13,10 @@ year ``k``) a unit of type ``t`` and age ``a`` is held; its vintage is
   the new unit's first-year O&M at ``k+1``.
 
 States at ``k = H`` carry the end value (docs/conventions.md).  Every cost is
-discounted to time 0.
+discounted to time 0.  With ``[study] tax_rate`` the arc costs are after tax
+(docs/conventions.md, "Income tax"; the pieces come from :mod:`tenure.tax`):
+O&M less tax, less the depreciation shield of the service year, and each sale
+less the tax on its market value over book value.
 
 :class:`StageGraph` holds the graph as arc-cost tables indexed by
 ``(k, t, a)``, which is what makes the recursion one numpy step per stage.
