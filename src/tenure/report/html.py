@@ -201,7 +201,7 @@ def assumptions_html(case: Case) -> str:
     out.append(table(("type", "class", f"price ({s.start_year})", "price change / year", "can be bought",
                       "max age (years)", "O&M per year", "market value", "units held"), trow, num=(2, 3, 5, 8),
                      nowrap=(0, 1)))
-    out.append(taxnote.depreciation_html(case))
+    out += [x for x in [taxnote.depreciation_html(case)] if x]
     inv = []
     for t in case.types:
         ages = Counter()
@@ -306,7 +306,7 @@ def summary_html(plan, case: Case) -> str:
     end_note = (f"market value of units held at {plan.end_year}: {money(plan.end_market_value)}"
                 if plan.end_value == "salvage" else f"units held at {plan.end_year} costed as continuing chains")
     boxes.append(fig_box("End of the horizon", plan.end_value, end_note))
-    out = ['<div class="figures">' + "".join(boxes) + "</div>", taxnote.summary_html(case)]
+    out = ['<div class="figures">' + "".join(boxes) + "</div>"] + [x for x in [taxnote.summary_html(case)] if x]
     if plan.status in ("infeasible", "unsolved"):
         rows = [(y, money(x)) for y, x in plan.shortfall]
         head = ('<strong>No plan fits the caps.</strong> Some units reach their max age in years without enough '
