@@ -21,6 +21,7 @@ import pandas as pd
 import pytest
 
 import tenure
+from tenure.case import TYPE_KEYS
 from casekit import BAD_INPUTS, DEMO, REPO, UNCAPPED, base_doc
 from tenure.case import TOP_KEYS, CaseError, build_case
 from tenure.report.tables import units_csv, years_csv
@@ -56,8 +57,10 @@ def test_frames_of_a_case_rebuild_the_same_model(path):
 def test_types_frame_has_the_toml_field_names_and_curve_cells():
     case = tenure.load_case(DEMO)
     types = case.types_frame()
-    assert list(types.columns) == ["id", "class", "price", "price_change", "buy_from", "buy_until", "max_age",
-                                   "om", "om_change", "salvage"]
+    # every [[asset_type]] key of the case format, in its order (case.keys.TYPE_KEYS), the original ten first
+    assert list(types.columns) == list(TYPE_KEYS)
+    assert list(types.columns)[:10] == ["id", "class", "price", "price_change", "buy_from", "buy_until", "max_age",
+                                        "om", "om_change", "salvage"]
     assert list(types.index) == [t.id for t in case.types]
     # values as in cases/quillmere-fleet.toml
     assert types.loc["rt-diesel", "om"] == {"first": 21800, "gradient": 4600}

@@ -13,7 +13,10 @@ year ``k``) a unit of type ``t`` and age ``a`` is held; its vintage is
   the new unit's first-year O&M at ``k+1``.
 
 States at ``k = H`` carry the end value (docs/conventions.md).  Every cost is
-discounted to time 0.
+discounted to time 0.  With ``[study] tax_rate`` the arc costs are after tax
+(docs/conventions.md, "Income tax"; the pieces come from :mod:`tenure.tax`):
+O&M less tax, less the depreciation shield of the service year, and each sale
+less the tax on its market value over book value.
 
 :class:`StageGraph` holds the graph as arc-cost tables indexed by
 ``(k, t, a)``, which is what makes the recursion one numpy step per stage.
@@ -37,7 +40,7 @@ from typing import TYPE_CHECKING
 
 import numpy as np
 
-from . import curves, life, money
+from . import curves, life, money, tax
 from .model import Case
 
 if TYPE_CHECKING:  # networkx loads only when the view is built (tests, benchmarks), not on every command
@@ -82,6 +85,13 @@ class StageGraph:
         discounted least cost of keeping then an endless best chain).
     valid : bool ndarray (T, A+1)
         Ages that exist for each type (a ≤ max_age).
+    tax_rate : float or None
+        When set, ``keep_pw``, ``buy_pw``, ``sale_pw`` and ``end_pw`` are after
+        tax (docs/conventions.md, "Income tax"); ``price``, ``om_*`` and
+        ``value`` stay the money paid and received, which is what capital caps
+        and the yearly totals use.
+    book : ndarray (H+1, T, A+1) or None
+        Book value of a unit of age a at time k (after tax only).
     """
 
     class_: str
@@ -103,6 +113,8 @@ class StageGraph:
     end_value: str = "salvage"
     chain_cost: float | None = None
     chain_type: str | None = None
+    tax_rate: float | None = None
+    book: np.ndarray | None = field(default=None, repr=False)
 
     @property
     def ages(self) -> int:
@@ -164,9 +176,12 @@ def build_class_graph(case: Case, class_: str) -> StageGraph:
     value = np.where(valid[None, :, :], value, 0.0)
 
     v = np.asarray(money.pf(i, kk))
-    keep_pw = om_keep * v[1:, None, None]
-    buy_pw = np.where(buyable, price * v[:H, None] + om_new * v[1:, None], np.inf)
-    sale_pw = value * v[:, None, None]
+    keep_cash, new_cash, sale_cash, book = om_keep, om_new, value, None
+    if s.tax_rate is not None:
+        keep_cash, new_cash, sale_cash, book = _after_tax_cash(case, types, om_keep, om_new, value, valid)
+    keep_pw = keep_cash * v[1:, None, None]
+    buy_pw = np.where(buyable, price * v[:H, None] + new_cash * v[1:, None], np.inf)
+    sale_pw = sale_cash * v[:, None, None]
 
     chain_cost = chain_type = None
     if s.end_value == "salvage":
@@ -177,19 +192,49 @@ def build_class_graph(case: Case, class_: str) -> StageGraph:
         best = None
         for t in types:
             if t.buyable(y_end - 1):
-                c, _ = life.capitalised_chain_cost(t, i, y0, y_end)
+                c, _ = life.capitalised_chain_cost(t, i, y0, y_end, tax_rate=s.tax_rate)
                 if best is None or c < best[0] - TIE * abs(c):
                     best = (c, t.id)
         chain_cost, chain_type = best
         end_pw = np.full((T, A + 1), np.inf)
         for j, t in enumerate(types):
             a = np.arange(t.max_age + 1)
-            end_pw[j, : t.max_age + 1] = life.continuing_costs(t, a, y_end - a, chain_cost, i, y0, y_end) * v[H]
+            end_pw[j, : t.max_age + 1] = life.continuing_costs(t, a, y_end - a, chain_cost, i, y0, y_end,
+                                                               tax_rate=s.tax_rate) * v[H]
     end_pw = np.where(valid, end_pw, np.inf)
     return StageGraph(class_=class_, types=tuple(t.id for t in types), max_age=max_age, start_year=y0, horizon=H,
                       rate=i, buyable=buyable, price=price, om_new=om_new, om_keep=om_keep, value=value,
                       keep_pw=keep_pw, buy_pw=buy_pw, sale_pw=sale_pw, end_pw=end_pw, valid=valid,
-                      end_value=s.end_value, chain_cost=chain_cost, chain_type=chain_type)
+                      end_value=s.end_value, chain_cost=chain_cost, chain_type=chain_type, tax_rate=s.tax_rate,
+                      book=book)
+
+
+def _after_tax_cash(case: Case, types, om_keep, om_new, value, valid):
+    """After-tax cash of every arc (docs/conventions.md, "Income tax"), undiscounted [money].
+
+    Returns ``keep_cash (H, T, A+1)`` = (1−τ)·O&M − τ·d_(a+1)·B paid at k+1,
+    ``new_cash (H, T)`` = the same for service year 1 of a unit bought at k,
+    ``sale_cash (H+1, T, A+1)`` = MV − τ·(MV − BV_a) received at k, and the
+    book values ``book (H+1, T, A+1)``; the basis ``B`` is the type's price in
+    the vintage ``start_year + k − a``.
+    """
+    s = case.study
+    tau, y0, H = s.tax_rate, s.start_year, s.horizon
+    ages = np.arange(valid.shape[1])
+    kk = np.arange(H + 1)
+    vint = (y0 + kk)[:, None] - ages[None, :]
+    keep = np.empty_like(om_keep)
+    sale = np.empty_like(value)
+    book = np.empty_like(value)
+    new = np.empty_like(om_new)
+    with np.errstate(invalid="ignore"):  # inf O&M marks arcs that do not exist; they stay inf
+        for j, t in enumerate(types):
+            keep[:, j] = tax.keep_cash(t, tau, om_keep[:, j], ages[None, :] + 1, vint[:H], y0)
+            new[:, j] = tax.keep_cash(t, tau, om_new[:, j], 1, y0 + kk[:H], y0)
+            book[:, j] = np.where(valid[j][None, :], tax.book_value(t, ages[None, :], vint, y0), 0.0)
+            sale[:, j] = value[:, j] - tax.tax_on_sale(value[:, j], book[:, j], tau)
+    keep = np.where(np.isfinite(om_keep), keep, np.inf)
+    return keep, new, sale, book
 
 
 # ---------------------------------------------------------------------------

@@ -14,7 +14,7 @@ from pathlib import Path
 from . import __version__, api
 from .case import CaseError
 from .plan import NoPlanError
-from .report import text
+from .report import taxnote, text
 from .textutil import did_you_mean
 
 EXIT_BAD_INPUT = 2
@@ -52,6 +52,10 @@ def cmd_life(args) -> int:
     year = case.study.start_year if args.year is None else args.year
     if not (1900 <= year <= 2300):
         raise UsageError(f"--year {year}: must be a calendar year")
+    if args.compare_tax:
+        chosen = [case.type(args.type)] if args.type else [t for t in case.types if t.buyable(year)] or list(case.types)
+        return _life_compare_tax(case, chosen, year, args)
+    tax_rate = case.study.tax_rate
     tables = api.life_tables(case, args.type, year, args.tolerance)
     if args.json:
         payload = tables[0].to_dict() if len(tables) == 1 else [lt.to_dict() for lt in tables]
@@ -62,8 +66,37 @@ def cmd_life(args) -> int:
         note = "" if t.buyable(year) else "  (not buyable that year)"
         if j:
             print()
+        if tax_rate is not None:
+            print(taxnote.life_text_after_tax(lt, f"After-tax economic life of {lt.type} ({t.class_}), bought "
+                                                  f"{year}, rate {case.study.discount_rate:.2%}, tax "
+                                                  f"{tax_rate:.1%}, {taxnote.depreciation_label(t)}{note}"))
+            continue
         print(text.life_text(lt, f"Economic life of {lt.type} ({t.class_}), bought {year}, "
                                  f"rate {case.study.discount_rate:.2%}{note}"))
+    return 0
+
+
+def _life_compare_tax(case, chosen, year, args) -> int:
+    """``tenure life --compare-tax``: before- and after-tax EAC tables side by side."""
+    from .life import life_table
+
+    s = case.study
+    if s.tax_rate is None:
+        raise UsageError(f"--compare-tax: {case.source} has no [study] tax_rate, so there is no after-tax "
+                         "analysis to compare (add tax_rate and a depreciation method per type)")
+    pairs = [(life_table(t, s.discount_rate, s.start_year, year, args.tolerance),
+              life_table(t, s.discount_rate, s.start_year, year, args.tolerance, tax_rate=s.tax_rate))
+             for t in chosen]
+    if args.json:
+        print(json.dumps([{"before_tax": b.to_dict(), "after_tax": a.to_dict()} for b, a in pairs], indent=2))
+        return 0
+    for j, (b, a) in enumerate(pairs):
+        t = case.type(a.type)
+        if j:
+            print()
+        print(taxnote.life_compare_text(b, a, f"Economic life of {a.type} ({t.class_}), bought {year}, rate "
+                                              f"{s.discount_rate:.2%}: before tax and after tax at "
+                                              f"{s.tax_rate:.1%} ({taxnote.depreciation_label(t)})"))
     return 0
 
 
@@ -209,6 +242,8 @@ def build_parser() -> argparse.ArgumentParser:
     c.add_argument("--year", type=int, help="purchase year (default: the study's start year)")
     c.add_argument("--tolerance", type=float, default=0.02, help="relative width of the near-optimal band (0.02)")
     c.add_argument("--json", action="store_true", help="print JSON instead of a table")
+    c.add_argument("--compare-tax", action="store_true",
+                   help="show the after-tax EAC beside the before-tax one (a case with [study] tax_rate)")
     c.set_defaults(func=cmd_life)
 
     c = sub.add_parser("plan", help="least-cost renewal plan of the whole fleet (capped when the case has a budget)")

@@ -16,6 +16,14 @@ valued at the end of that year:
 
 (lost market value, interest on the value held, that year's O&M).
 
+After tax (``tax_rate`` τ given; docs/conventions.md, "Income tax") the same
+formulas hold with the after-tax sale value ``S'_N = S_N − τ·(S_N − BV_N)``,
+the after-tax O&M ``(1−τ)·c_a`` and the depreciation shield ``τ·d_a·P``
+received at the end of service year ``a``:
+
+    EAC(N) = P·(A/P,i,N) − S'_N·(A/F,i,N)
+             − [Σ τ·d_a·P·(P/F,i,a)]·(A/P,i,N) + [Σ (1−τ)·c_a·(P/F,i,a)]·(A/P,i,N)
+
 References
 ----------
 .. [1] W. G. Sullivan, E. M. Wicks, C. P. Koelling, *Engineering Economy*,
@@ -31,7 +39,7 @@ from dataclasses import dataclass
 
 import numpy as np
 
-from . import curves, money
+from . import curves, money, tax
 from .model import AssetType
 
 DEFAULT_TOLERANCE = 0.02
@@ -57,6 +65,12 @@ class LifeTable:
         The run of N around the economic life whose EAC is within
         ``tolerance`` (relative) of the minimum.
     tolerance : float
+    tax_rate : float or None
+        Set for an after-tax table; ``eac_capital`` then uses the after-tax
+        sale value and ``eac_om`` the after-tax O&M.
+    eac_shield : ndarray or None
+        EAC of the depreciation tax shields (negative: a saving) [money/year],
+        included in ``eac_total`` (after tax only).
     """
 
     type: str
@@ -70,14 +84,22 @@ class LifeTable:
     min_eac: float
     band: tuple[int, int]
     tolerance: float
+    tax_rate: float | None = None
+    eac_shield: np.ndarray | None = None
 
     def to_dict(self) -> dict:
         rows = [
             {"years": int(n), "eac_capital": float(c), "eac_om": float(o), "eac_total": float(t), "marginal": float(m)}
             for n, c, o, t, m in zip(self.years, self.eac_capital, self.eac_om, self.eac_total, self.marginal)
         ]
-        return {"type": self.type, "year": int(self.year), "rows": rows, "economic_life": int(self.economic_life),
-                "min_eac": float(self.min_eac), "band": [int(self.band[0]), int(self.band[1])]}
+        if self.eac_shield is not None:
+            for row, sh in zip(rows, self.eac_shield):
+                row["eac_shield"] = float(sh)
+        d = {"type": self.type, "year": int(self.year), "rows": rows, "economic_life": int(self.economic_life),
+             "min_eac": float(self.min_eac), "band": [int(self.band[0]), int(self.band[1])]}
+        if self.tax_rate is not None:
+            d["tax_rate"] = float(self.tax_rate)
+        return d
 
     def to_frame(self):
         """The table as a DataFrame, one row per holding period N [years].
@@ -167,7 +189,7 @@ def _argmin_first(x: np.ndarray) -> int:
 
 
 def life_table(t: AssetType, rate: float, start_year: int, year: int | None = None,
-               tolerance: float = DEFAULT_TOLERANCE, frozen: bool = False) -> LifeTable:
+               tolerance: float = DEFAULT_TOLERANCE, frozen: bool = False, tax_rate: float | None = None) -> LifeTable:
     """EAC by holding period for a unit of type ``t`` bought in ``year``.
 
     Parameters
@@ -185,6 +207,9 @@ def life_table(t: AssetType, rate: float, start_year: int, year: int | None = No
         When True the sale after N years is valued at the purchase year's
         prices (prices frozen, as for the "continuing" end value); otherwise a
         sale in year ``year+N`` follows that year's new price.
+    tax_rate : float, optional
+        Income-tax rate; when given the table is after tax (the type needs a
+        depreciation method) and ``rate`` is the after-tax discount rate.
     """
     year = start_year if year is None else year
     n = np.arange(1, t.max_age + 1)
@@ -192,21 +217,33 @@ def life_table(t: AssetType, rate: float, start_year: int, year: int | None = No
     sale_year = np.full(n.shape, year) if frozen else year + n
     s = np.asarray(curves.market_value(t, n, sale_year, start_year))
     c = np.asarray(curves.om(t, n, year, start_year))
+    shield_eac = None
+    if tax_rate is not None:
+        # the basis is the purchase price p, also when later sales follow later prices
+        s = np.asarray(tax.sale_cash(t, tax_rate, s, n, year, start_year))
+        shield = np.asarray(tax.shield(t, tax_rate, n, year, start_year))
+        c = np.asarray(tax.after_tax_om(c, tax_rate))
+        shield_eac = -np.cumsum(shield * money.pf(rate, n)) * money.ap(rate, n)
+        c_net = c - shield
     cap, om_eac, total = eac_components(p, s, c, rate)
     mc = marginal_costs(p, s, c, rate)
+    if tax_rate is not None:
+        total = total + shield_eac
+        mc = marginal_costs(p, s, c_net, rate)
     best = _argmin_first(total)
     return LifeTable(type=t.id, year=year, years=n, eac_capital=cap, eac_om=om_eac, eac_total=total, marginal=mc,
                      economic_life=best + 1, min_eac=float(total[best]), band=_band(total, best, tolerance),
-                     tolerance=tolerance)
+                     tolerance=tolerance, tax_rate=tax_rate, eac_shield=shield_eac)
 
 
-def capitalised_chain_cost(t: AssetType, rate: float, start_year: int, year: int) -> tuple[float, int]:
+def capitalised_chain_cost(t: AssetType, rate: float, start_year: int, year: int,
+                           tax_rate: float | None = None) -> tuple[float, int]:
     """Present cost at time ``year`` of an endless chain of new units of ``t`` [money].
 
     All prices, values and O&M frozen at ``year``; each unit is kept for its
     economic life ``N*``; the cost of the chain, first purchase included, is
     the capitalised cost ``EAC*/i`` (common practice: the infinite identical
-    chain).  Needs ``rate > 0``.
+    chain).  Needs ``rate > 0``.  With ``tax_rate`` the EAC is after tax.
 
     Returns
     -------
@@ -217,12 +254,12 @@ def capitalised_chain_cost(t: AssetType, rate: float, start_year: int, year: int
     """
     if rate <= 0:
         raise ValueError(f"capitalised cost needs discount rate > 0, got {rate!r}")
-    lt = life_table(t, rate, start_year, year, frozen=True)
+    lt = life_table(t, rate, start_year, year, frozen=True, tax_rate=tax_rate)
     return lt.min_eac / rate, lt.economic_life
 
 
 def continuing_cost(held: AssetType, age: int, vintage: int, chain_cost: float, rate: float, start_year: int,
-                    year: int) -> float:
+                    year: int, tax_rate: float | None = None) -> float:
     """Least present cost, at time ``year``, of a held unit under the "continuing" end value [money].
 
     The unit of type ``held`` and ``age`` is kept ``n`` more years
@@ -232,10 +269,12 @@ def continuing_cost(held: AssetType, age: int, vintage: int, chain_cost: float, 
 
         min_n  Σ_{j=1..n} c(age+j)·v^j − S(age+n)·v^n + v^n·chain_cost,   v = 1/(1+i)
 
-    with every market value valued at ``year``'s prices.
+    with every market value valued at ``year``'s prices.  With ``tax_rate``,
+    ``c`` is the after-tax O&M less the depreciation shield of the unit's own
+    vintage and ``S`` the after-tax sale value (docs/conventions.md).
     """
     return float(continuing_costs(held, np.array([age]), vintage_of(year, np.array([age])), chain_cost, rate,
-                                  start_year, year)[0])
+                                  start_year, year, tax_rate=tax_rate)[0])
 
 
 def vintage_of(year: int, age):
@@ -244,7 +283,7 @@ def vintage_of(year: int, age):
 
 
 def continuing_costs(held: AssetType, ages, vintages, chain_cost: float, rate: float, start_year: int,
-                     year: int) -> np.ndarray:
+                     year: int, tax_rate: float | None = None) -> np.ndarray:
     """Vector form of :func:`continuing_cost` over ``ages`` (with their ``vintages``) [money].
 
     Evaluated on an (age × years kept) grid at once; cells past the max age are
@@ -260,8 +299,12 @@ def continuing_costs(held: AssetType, ages, vintages, chain_cost: float, rate: f
     disc = np.asarray(money.pf(rate, np.arange(0, held.max_age + 1)))[None, :]
     # O&M of service year a+j paid j years on (j = 1 … n): cumulative over the grid's columns
     om_year = np.asarray(curves.om(held, np.maximum(served, 1), v, start_year))
+    if tax_rate is not None:
+        om_year = np.asarray(tax.keep_cash(held, tax_rate, om_year, np.maximum(served, 1), v, start_year))
     om_pw = np.where(n >= 1, om_year * disc, 0.0)
     om_pw = np.where(ok, om_pw, 0.0).cumsum(axis=1)
     sale = np.asarray(curves.market_value(held, served, year, start_year))
+    if tax_rate is not None:
+        sale = np.asarray(tax.sale_cash(held, tax_rate, sale, served, v, start_year))
     total = np.where(ok, om_pw + disc * (chain_cost - sale), np.inf)
     return total.min(axis=1).reshape(ages.shape)

@@ -14,6 +14,10 @@ from typing import Any, Mapping
 END_VALUES = ("salvage", "continuing")
 #: allowed budget bases
 BUDGET_BASES = ("gross", "net")
+#: allowed depreciation methods (docs/case-format.md, tenure.tax)
+DEPRECIATION_METHODS = ("straight-line", "declining-balance", "table", "macrs")
+#: MACRS GDS recovery periods with a half-year table (IRS Publication 946, Table A-1)
+MACRS_RECOVERY_YEARS = (3, 5, 7, 10, 15, 20)
 
 
 @dataclass(frozen=True)
@@ -29,8 +33,11 @@ class Study:
         Number of planning years [years]; years k = 0 … horizon-1.
     discount_rate : float
         Real discount rate [1/year]; money is constant start-year currency.
+        When ``tax_rate`` is set it is the after-tax rate.
     end_value : str
         ``"salvage"`` or ``"continuing"``.
+    tax_rate : float or None
+        Combined marginal income-tax rate [-]; None for a before-tax analysis.
     """
 
     title: str
@@ -38,6 +45,7 @@ class Study:
     horizon: int
     discount_rate: float
     end_value: str = "salvage"
+    tax_rate: float | None = None
 
     @property
     def years(self) -> range:
@@ -77,6 +85,39 @@ class ValueCurve:
 
 
 @dataclass(frozen=True)
+class Depreciation:
+    """Tax depreciation of a type, as fractions of the basis by service year (``tenure.tax``).
+
+    ``method`` is ``"straight-line"`` (``(1 − salvage)/life`` in each of
+    ``life`` years), ``"declining-balance"`` (``rate`` × book value for
+    ``life`` years, switching to straight line over the remaining life when
+    that gives more if ``switch``), ``"table"`` (``rates``, one fraction per
+    service year) or ``"macrs"`` (the GDS half-year table of
+    ``recovery_years``, IRS Publication 946, Table A-1).
+    """
+
+    method: str
+    life: int = 0
+    salvage: float = 0.0
+    rate: float = 0.0
+    switch: bool = False
+    rates: tuple[float, ...] = ()
+    recovery_years: int = 0
+
+    def describe(self) -> str:
+        """A short label for reports, e.g. ``"MACRS 5-year"``."""
+        if self.method == "straight-line":
+            tail = f", salvage {self.salvage:.0%}" if self.salvage else ""
+            return f"straight line {self.life} years{tail}"
+        if self.method == "declining-balance":
+            return (f"declining balance {self.rate:.0%} over {self.life} years"
+                    + (", switch to straight line" if self.switch else ""))
+        if self.method == "table":
+            return f"table of {len(self.rates)} years"
+        return f"MACRS {self.recovery_years}-year"
+
+
+@dataclass(frozen=True)
 class AssetType:
     """A model of unit that can be held, and perhaps bought.
 
@@ -96,6 +137,8 @@ class AssetType:
     om_change : float
         Geometric change of the whole O&M curve per later vintage [1/year].
     salvage : ValueCurve
+    depreciation : Depreciation or None
+        Tax depreciation; used only when ``Study.tax_rate`` is set.
     """
 
     id: str
@@ -108,6 +151,7 @@ class AssetType:
     om_change: float = 0.0
     buy_from: int | None = None
     buy_until: int | None = None
+    depreciation: Depreciation | None = None
 
     def buyable(self, year: int) -> bool:
         """True when a new unit of this type can be bought in calendar ``year``."""

@@ -143,6 +143,9 @@ class Plan:
         Least extra capital per year that makes an infeasible case feasible.
     provenance : Provenance or None
         The method and solver behind the plan, its bound and its shadow prices.
+    tax_rate : float or None
+        Set when the present cost is after tax (docs/conventions.md, "Income
+        tax"); the yearly capital, market value and O&M stay before tax.
     """
 
     status: str
@@ -163,6 +166,7 @@ class Plan:
     stats: dict = field(default_factory=dict)
     forcing_units: tuple = ()
     provenance: Provenance | None = None
+    tax_rate: float | None = None
 
     @property
     def success(self) -> bool:
@@ -244,6 +248,8 @@ class Plan:
         }
         if self.provenance is not None:
             d["provenance"] = self.provenance.to_dict()
+        if self.tax_rate is not None:
+            d["tax_rate"] = self.tax_rate
         if self.status in ("infeasible", "unsolved") or self.shortfall:
             d["shortfall"] = [{"year": y, "extra_capital": _r(x)} for y, x in self.shortfall]
             d["forcing_units"] = list(self.forcing_units)
@@ -333,7 +339,8 @@ def assemble(case: Case, graphs: dict[str, StageGraph], groups: Sequence[PathGro
                 gap=float(max(gap, 0.0)), years=tuple(years), units=tuple(units), end_year=y0 + H,
                 end_value=s.end_value, end_market_value=float(end_mv), by_class=by_class,
                 basis=budget.basis if budget is not None else "gross", uncapped_cost=uncapped_cost,
-                shortfall=tuple(shortfall), message=message, stats=dict(stats or {}), provenance=provenance)
+                shortfall=tuple(shortfall), message=message, stats=dict(stats or {}), provenance=provenance,
+                tax_rate=s.tax_rate)
 
 
 def _unit_order(case: Case) -> list[str]:

@@ -24,6 +24,7 @@ from .keys import (BUDGET_KEYS, CSV_COLUMNS, CSV_OPTIONAL, DISTRIBUTIONS, FLEET_
                    SCENARIO_KEYS, STUDY_KEYS, TOP_KEYS, TYPE_KEYS, UNCERTAIN_KEYS, UNIT_KEYS)
 from .problems import CaseError, Checker, Problem, blocks
 from .rules import _budget, _coverage, _limits
+from .taxes import _tax_coverage
 from .variants import _scenarios, _uncertain
 
 __all__ = ["CaseError", "Checker", "Problem", "blocks", "build_case", "load_case", "read_document", "FORMAT_VERSION",
@@ -64,6 +65,7 @@ def build_case(doc: Mapping[str, Any], *, source: str = "<memory>", base_dir: Pa
     limits = _limits(chk, doc, classes)
     scenarios = _scenarios(chk, doc)
     uncertain = _uncertain(chk, doc)
+    _tax_coverage(chk, doc, study.tax_rate if study is not None else None)
     if study is not None and not chk.problems:
         _coverage(chk, study, types, units)
     if chk.problems:

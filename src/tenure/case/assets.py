@@ -7,6 +7,7 @@ from typing import Any, Mapping
 from ..model import END_VALUES, AssetType, OMCurve, Study, ValueCurve
 from .keys import STUDY_KEYS, TYPE_KEYS
 from .problems import Checker, blocks
+from .taxes import _depreciation, _tax_rate
 
 
 def _study(chk: Checker, doc: Mapping) -> Study | None:
@@ -26,9 +27,11 @@ def _study(chk: Checker, doc: Mapping) -> Study | None:
     if end_value == "continuing" and rate is not None and rate <= 0:
         chk.bad("study.discount_rate", f"= {rate!r}: end_value = 'continuing' needs a discount rate > 0 "
                 "(a capitalised cost EAC/i is infinite at a zero rate); use end_value = 'salvage' or a positive rate")
+    tax_rate = _tax_rate(chk, s)
     if None in (start, horizon, rate):
         return None
-    return Study(title=title, start_year=start, horizon=horizon, discount_rate=rate, end_value=end_value)
+    return Study(title=title, start_year=start, horizon=horizon, discount_rate=rate, end_value=end_value,
+                 tax_rate=tax_rate)
 
 
 def _om_curve(chk: Checker, v: Any, path: str) -> OMCurve | None:
@@ -138,8 +141,10 @@ def _asset_types(chk: Checker, doc: Mapping) -> list[AssetType]:
             sv = None
         else:
             sv = _value_curve(chk, b["salvage"], f"{p}.salvage")
+        dep = _depreciation(chk, b, p)
         if None in (tid, cls, price, price_change, om_change, om, sv, max_age):
             continue
         out.append(AssetType(id=tid, class_=cls, price=price, price_change=price_change, om_change=om_change,
-                             buy_from=buy_from, buy_until=buy_until, max_age=max_age, om=om, salvage=sv))
+                             buy_from=buy_from, buy_until=buy_until, max_age=max_age, om=om, salvage=sv,
+                             depreciation=dep))
     return out

@@ -3,10 +3,10 @@
 FORMAT_VERSION = 1
 
 TOP_KEYS = ("format", "study", "asset_type", "unit", "fleet", "budget", "limit", "scenario", "uncertain")
-STUDY_KEYS = ("title", "start_year", "horizon", "discount_rate", "end_value")
+STUDY_KEYS = ("title", "start_year", "horizon", "discount_rate", "end_value", "tax_rate")
 TYPE_KEYS = (
     "id", "class", "price", "price_change", "buy_from", "buy_until",
-    "max_age", "om", "om_change", "salvage",
+    "max_age", "om", "om_change", "salvage", "depreciation",
 )
 UNIT_KEYS = ("id", "type", "age", "count")
 FLEET_KEYS = ("file",)

@@ -22,7 +22,8 @@ from . import charts, files, html, xlsx
 def life_tables(case: Case) -> list:
     """EAC tables of every type buyable in the study, each bought in its first buyable planning year."""
     s = case.study
-    return [life_table(t, s.discount_rate, s.start_year, year) for t, year in charts.buyable_types(case)]
+    return [life_table(t, s.discount_rate, s.start_year, year, tax_rate=s.tax_rate)
+            for t, year in charts.buyable_types(case)]
 
 
 def policies(case: Case) -> dict:

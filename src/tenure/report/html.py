@@ -29,7 +29,7 @@ from markupsafe import Markup
 from .. import __version__
 from ..model import AssetType, Case
 from ..scenarios import Comparison
-from . import charts
+from . import charts, taxnote
 from .text import CAUTION
 
 _ENV = jinja2.Environment(loader=jinja2.PackageLoader("tenure.report", "templates"), autoescape=True,
@@ -154,7 +154,7 @@ def assumptions_html(case: Case) -> str:
             ("Planning years", f"{s.start_year}–{last} ({s.horizon} years)"),
             ("Discount rate", f"{s.discount_rate:.2%} per year, real"),
             ("Money", f"constant {s.start_year} currency; present cost is at the start of {s.start_year}"),
-            ("End of the horizon", f"{s.end_value}: {end}")]
+            ("End of the horizon", f"{s.end_value}: {end}")] + taxnote.assumption_rows(case)
     out = ["<h3>Study frame</h3>", table(("item", "value"), rows)]
     trow = []
     for t in case.types:
@@ -168,6 +168,7 @@ def assumptions_html(case: Case) -> str:
     out.append(table(("type", "class", f"price ({s.start_year})", "price change / year", "can be bought",
                       "max age (years)", "O&M per year", "market value", "units held"), trow, num=(2, 3, 5, 8),
                      nowrap=(0, 1)))
+    out += [x for x in [taxnote.depreciation_html(case)] if x]
     inv = []
     for t in case.types:
         ages = Counter()
@@ -274,7 +275,7 @@ def summary_html(plan, case: Case) -> str:
     end_note = (f"market value of units held at {plan.end_year}: {money(plan.end_market_value)}"
                 if plan.end_value == "salvage" else f"units held at {plan.end_year} costed as continuing chains")
     boxes.append(fig_box("End of the horizon", plan.end_value, end_note))
-    out = ['<div class="figures">' + "".join(boxes) + "</div>"]
+    out = ['<div class="figures">' + "".join(boxes) + "</div>"] + [x for x in [taxnote.summary_html(case)] if x]
     if plan.status in ("infeasible", "unsolved"):
         rows = [(y, money(x)) for y, x in plan.shortfall]
         head = ('<strong>No plan fits the caps.</strong> Some units reach their max age in years without enough '

@@ -11,6 +11,7 @@ from collections import Counter
 from ..life import LifeTable
 from ..model import Case
 from ..textutil import money
+from . import taxnote as _taxnote
 
 __all__ = ["CAUTION", "money", "rule", "case_summary", "life_text", "plan_summary", "policy_text"]
 
@@ -86,6 +87,8 @@ def plan_summary(plan, case: Case, out_dir: str | None = None, written: list[str
     s = case.study
     lines = [f"{s.title or 'plan'} — {plan.method}, status {plan.status}", rule()]
     lines.append(f"present cost (time 0, {s.start_year} currency): {money(plan.present_cost)}")
+    if s.tax_rate is not None:
+        lines.append(f"{_taxnote.tax_line(case)}")
     if plan.status == "feasible":
         bound_from = plan.provenance.lower_bound if plan.provenance is not None else ""
         lines.append(f"proven lower bound {money(plan.lower_bound)}  (gap {plan.gap:.3%}"
