@@ -389,3 +389,19 @@ def _case_fit(t):
 
     return TypeFit(type=t.id, class_=t.class_, om_forms=(), value_forms=(), om_chosen=None, value_chosen=None,
                    om=t.om, salvage=t.salvage, n_units=0, n_unit_years=0, n_ages=0, n_sales=0, flags=())
+
+
+def test_a_list_om_replaced_by_a_fitted_form_gets_an_explicit_max_age(tmp_path):
+    # the case's O&M list gave the max age (its length); a fitted gradient must keep max_age = 20
+    write_records(tmp_path)
+    text = (tmp_path / "case.toml").read_text().replace("max_age = 20\n", "").replace(
+        "om = { first = 3000, gradient = 500 }", "om = [" + ", ".join(str(3000 + 500 * j) for j in range(20)) + "]")
+    (tmp_path / "case.toml").write_text(text)
+    case = load_case(tmp_path / "case.toml")
+    assert case.type("van").max_age == 20 and case.type("van").om.kind == "table"
+    out = tmp_path / "out"
+    assert cli.main(["fit", str(tmp_path / "case.toml"), "--costs", str(tmp_path / "costs.csv"),
+                     "--units", str(tmp_path / "units.csv"), "--out", str(out)]) == 0
+    fitted = load_case(out / "fitted.toml")
+    assert fitted.type("van").max_age == 20 and fitted.type("van").om.kind == "gradient"
+    assert fitted.type("van").om.gradient == pytest.approx(OM_TRUE["gradient"]["gradient"], rel=1e-6)

@@ -83,7 +83,11 @@ def cmd_fit(args) -> int:
     from .case import read_document
 
     doc = read_document(case.source)
-    toml = writers.fitted_toml(Path(case.source).read_text(encoding="utf-8"), doc, result, case, out, args.uncertain)
+    try:
+        toml = writers.fitted_toml(Path(case.source).read_text(encoding="utf-8"), doc, result, case, out,
+                                   args.uncertain)
+    except writers.PlacementError as exc:
+        raise UsageError(f"{case.source}: cannot write fitted.toml: {exc}") from None
     stamp = _dt.datetime.now(_dt.timezone.utc).strftime("%Y-%m-%d %H:%M UTC")
     files = {"fitted.toml": toml.encode(), "fit.json": writers.fit_json(result).encode(),
              "fit.html": writers.fit_html(result, case, stamp).encode()}
