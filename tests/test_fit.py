@@ -281,16 +281,19 @@ def test_bad_records_exit_2_naming_file_row_and_column(tmp_path, capsys, name, t
     assert not (tmp_path / "out").exists()
 
 
-def test_semicolon_xlsx_and_header_case_are_read(tmp_path):
+def test_xlsx_semicolon_decimal_comma_and_header_case_read_the_same_records(tmp_path):
     import pandas as pd
 
     case = load_case(write_records(tmp_path))
     frame = pd.read_csv(tmp_path / "costs.csv")
     frame.columns = [" Unit", "YEAR ", "Amount"]
     frame.to_excel(tmp_path / "costs.xlsx", index=False)
+    (tmp_path / "costs-semi.csv").write_text("UNIT;Year;amount\n" + "".join(
+        f"{u};{y};{a!r}\n".replace(".", ",") for u, y, a in frame.itertuples(index=False)))
     a = fit_case(case, [tmp_path / "costs.csv"], units=tmp_path / "units.csv").type("van").form("gradient")
-    b = fit_case(case, [tmp_path / "costs.xlsx"], units=tmp_path / "units.csv").type("van").form("gradient")
-    assert b.params == pytest.approx(a.params, rel=1e-12)
+    for other in ("costs.xlsx", "costs-semi.csv"):
+        b = fit_case(case, [tmp_path / other], units=tmp_path / "units.csv").type("van").form("gradient")
+        assert b.params == pytest.approx(a.params, rel=1e-12), other
 
 
 # ---------------------------------------------------------------------------
