@@ -408,3 +408,15 @@ def test_a_list_om_replaced_by_a_fitted_form_gets_an_explicit_max_age(tmp_path):
     fitted = load_case(out / "fitted.toml")
     assert fitted.type("van").max_age == 20 and fitted.type("van").om.kind == "gradient"
     assert fitted.type("van").om.gradient == pytest.approx(OM_TRUE["gradient"]["gradient"], rel=1e-6)
+
+
+def test_list_form_is_the_count_weighted_moving_average_of_the_means_by_age():
+    # hand computation: ages 1 … 4 with 5, 6, 5, 5 unit-years; means 100, 130, 180, 260
+    age = np.repeat([1, 2, 3, 4], [5, 6, 5, 5])
+    cost = np.concatenate([100 + np.array([-2, -1, 0, 1, 2.0]), 130 + np.array([-5, -3, -1, 1, 3, 5.0]),
+                           180 + np.array([-4, -2, 0, 2, 4.0]), 260 + np.array([-1, 0, 0, 0, 1.0])])
+    f = om.fit_list(age, cost, 4)
+    expected = [100, (5 * 100 + 6 * 130 + 5 * 180) / 16, (6 * 130 + 5 * 180 + 5 * 260) / 16, 260]
+    assert list(f.params.values()) == pytest.approx(expected, rel=1e-12)
+    assert f.curve.table == pytest.approx(expected, rel=1e-12)
+    assert isinstance(om.fit_list(age[age != 3], cost[age != 3], 4), str)  # age 3 missing: not tried
