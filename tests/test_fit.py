@@ -420,3 +420,8 @@ def test_list_form_is_the_count_weighted_moving_average_of_the_means_by_age():
     assert list(f.params.values()) == pytest.approx(expected, rel=1e-12)
     assert f.curve.table == pytest.approx(expected, rel=1e-12)
     assert isinstance(om.fit_list(age[age != 3], cost[age != 3], 4), str)  # age 3 missing: not tried
+
+
+def test_the_demo_case_curves_draw_no_plausibility_warning():
+    # the invented demo's curves rise with age, stay below the price and give lives of 6 … 16 years
+    assert plausibility.warnings(load_case("cases/quillmere-fleet.toml")) == []

@@ -35,7 +35,7 @@ METHOD = {
     "vintage": "costs are divided by (1+om_change)^(vintage - start_year) so the fit is the start-year vintage",
     "minimums": f"O&M: {om_forms.MIN_UNITS} units and {om_forms.MIN_AGES} service years; list form: "
                 f"{om_forms.MIN_PER_AGE} unit-years at every age; market value: {value_forms.MIN_SALES} sales at "
-                f"{value_forms.MIN_SALE_AGES} whole ages. Below them the case curve is kept.",
+                f"{value_forms.MIN_SALE_AGES} whole ages; below them the case curve is kept",
 }
 
 
