@@ -78,7 +78,7 @@ def cmd_fit(args) -> int:
     if args.inflation is not None and not (-0.5 < args.inflation < 1):
         raise UsageError(f"--inflation {args.inflation!r}: must be a rate per year in (-0.5, 1), e.g. 0.025")
     level = price_level(case, index=args.index, inflation=args.inflation)
-    result = fit_case(case, args.costs, sales=args.sales, units=args.units, level=level)
+    result = fit_case(case, args.costs, sales=args.sales, units=args.units, level=level, intervals=args.intervals)
     out = Path(args.out)
     from .case import read_document
 
@@ -236,6 +236,8 @@ def build_parser() -> argparse.ArgumentParser:
     c.add_argument("--units", metavar="FILE", help="units id,type,in_service[,out_of_service] (e.g. units sold)")
     c.add_argument("--index", metavar="FILE", help="price index year,index: amounts to constant start-year money")
     c.add_argument("--inflation", type=float, metavar="R", help="constant inflation rate per year instead of --index")
+    c.add_argument("--intervals", choices=("ols", "bootstrap"), default="ols",
+                   help="standard errors and 90 %% intervals: OLS formulae, or a bootstrap over units (ols)")
     c.add_argument("--uncertain", action="store_true", help="add [[uncertain]] blocks of the fitted intervals")
     c.add_argument("--out", required=True, help="folder for fitted.toml, fit.json and fit.html")
     c.set_defaults(func=cmd_fit)

@@ -16,6 +16,7 @@ from .. import plausibility
 from ..case import CaseError
 from ..life import life_table
 from ..model import AssetType, Case
+from . import bootstrap
 from . import om as om_forms
 from . import prepare, records
 from . import value as value_forms
@@ -49,9 +50,17 @@ def price_level(case: Case, index: str | Path | None = None, inflation: float | 
     return PriceLevel(start)
 
 
+BOOTSTRAP_TEXT = (f"90 % percentile intervals and standard errors from a bootstrap over units ({bootstrap.REPLICATES} "
+                  "replicates; sales resampled one by one; life/floor keeps its Gauss-Newton intervals); the "
+                  "bands in fit.html are the OLS ones")
+
+
 def fit_case(case: Case, costs: Sequence[str | Path], sales: str | Path | None = None,
-             units: str | Path | None = None, level: PriceLevel | None = None) -> FitResult:
+             units: str | Path | None = None, level: PriceLevel | None = None,
+             intervals: str = "ols") -> FitResult:
     """Fit O&M and market-value curves of every type of ``case`` from record files.
+
+    ``intervals`` is ``"ols"`` (the OLS formulae) or ``"bootstrap"`` (over units, :mod:`.bootstrap`).
 
     Raises
     ------
@@ -80,7 +89,8 @@ def fit_case(case: Case, costs: Sequence[str | Path], sales: str | Path | None =
         level.check_years(sale_frame["year"].to_numpy(), f"sale records of {sale_frame.attrs['file']}")
     uy = prepare.unit_years(cost_frames, reg, case, level)
     sr = prepare.sale_ratios(sale_frame, case, level)
-    fits = tuple(fit_type(case, t, uy.loc[uy["type"] == t.id], sr.loc[sr["type"] == t.id]) for t in case.types)
+    fits = tuple(fit_type(case, t, uy.loc[uy["type"] == t.id], sr.loc[sr["type"] == t.id], intervals)
+                 for t in case.types)
     inputs = {"costs": [{"file": c.attrs["file"], "records": c.attrs["rows"], "dated_by": c.attrs["when"],
                          "unused_columns": list(c.attrs["unused"])} for c in cost_frames],
               "sales": None if sale_frame is None else {"file": sale_frame.attrs["file"], "records": len(sale_frame),
@@ -89,16 +99,32 @@ def fit_case(case: Case, costs: Sequence[str | Path], sales: str | Path | None =
               "unit_years_kept": int(len(uy)), "unit_years_dropped_partial": int(uy.attrs.get("unit_years_partial", 0))}
     warn = tuple(f for tf in fits for f in tf.flags)
     return FitResult(source=case.source, start_year=case.study.start_year, types=fits, price_level=level.to_dict(),
-                     method=METHOD, inputs=inputs, warnings=warn, unit_years=uy, sales=sr)
+                     method=dict(METHOD, **({"intervals": BOOTSTRAP_TEXT} if intervals == "bootstrap" else {})),
+                     inputs=inputs, warnings=warn, unit_years=uy, sales=sr)
 
 
-def fit_type(case: Case, t: AssetType, uy: pd.DataFrame, sr: pd.DataFrame) -> TypeFit:
+def _bootstrapped(forms, uy: pd.DataFrame | None, sr: pd.DataFrame | None):
+    """Forms with bootstrap intervals where the bootstrap applies (gradient, growth, retain)."""
+    out = []
+    for f in forms:
+        if f.form in ("gradient", "growth"):
+            f = bootstrap.apply(f, bootstrap.om_replicates(uy["unit"], uy["service_year"], uy["cost"],
+                                                           log=f.form == "growth"))
+        elif f.form == "retain":
+            f = bootstrap.apply(f, bootstrap.retain_replicates(sr["age"], sr["ratio"]))
+        out.append(f)
+    return out
+
+
+def fit_type(case: Case, t: AssetType, uy: pd.DataFrame, sr: pd.DataFrame, intervals: str = "ols") -> TypeFit:
     """Fit one type; too few units, ages or sales keep its case curve, with a flag saying so."""
     flags: list[str] = []
     n_units, n_ages = int(uy["unit"].nunique()), int(uy["service_year"].nunique())
     om_tried, om_pick = [], None
     if n_units >= om_forms.MIN_UNITS and n_ages >= om_forms.MIN_AGES:
         om_tried, notes = om_forms.fit_all(uy["service_year"].to_numpy(), uy["cost"].to_numpy(), t.max_age)
+        if intervals == "bootstrap":
+            om_tried = _bootstrapped(om_tried, uy, None)
         flags += [f"{t.id}: {n}" for n in notes if not n.startswith("list not tried")]
         om_pick = om_forms.choose(om_tried)
         if om_pick is None:
@@ -111,6 +137,8 @@ def fit_type(case: Case, t: AssetType, uy: pd.DataFrame, sr: pd.DataFrame) -> Ty
     v_tried, v_pick = [], None
     if n_sales >= value_forms.MIN_SALES and whole_ages >= value_forms.MIN_SALE_AGES:
         v_tried, notes = value_forms.fit_all(sr["age"].to_numpy(float), sr["ratio"].to_numpy(float), t.max_age)
+        if intervals == "bootstrap":
+            v_tried = _bootstrapped(v_tried, None, sr)
         flags += [f"{t.id}: {n}" for n in notes]
         v_pick = om_forms.choose(v_tried)
         if v_pick is None:
