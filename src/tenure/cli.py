@@ -1,4 +1,4 @@
-"""Command line: ``tenure check | life | plan | policy | compare | sweep``.
+"""Command line: ``tenure check | life | fit | plan | policy | compare | sweep``.
 
 Exit codes: 0 done; 2 bad input (every problem printed, no traceback);
 3 no plan fits the caps (the shortfall is printed and written).
@@ -73,6 +73,38 @@ def cmd_life(args) -> int:
             continue
         print(text.life_text(lt, f"Economic life of {lt.type} ({t.class_}), bought {year}, "
                                  f"rate {case.study.discount_rate:.2%}{note}"))
+    return 0
+
+
+def cmd_fit(args) -> int:
+    import datetime as _dt
+
+    from .fit import fit_case, price_level, writers
+
+    case = _case(args.case)
+    if args.index and args.inflation is not None:
+        raise UsageError("give either --index FILE or --inflation R, not both")
+    if args.inflation is not None and not (-0.5 < args.inflation < 1):
+        raise UsageError(f"--inflation {args.inflation!r}: must be a rate per year in (-0.5, 1), e.g. 0.025")
+    level = price_level(case, index=args.index, inflation=args.inflation)
+    result = fit_case(case, args.costs, sales=args.sales, units=args.units, level=level, intervals=args.intervals)
+    out = Path(args.out)
+    from .case import read_document
+
+    doc = read_document(case.source)
+    try:
+        toml = writers.fitted_toml(Path(case.source).read_text(encoding="utf-8"), doc, result, case, out,
+                                   args.uncertain)
+    except writers.PlacementError as exc:
+        raise UsageError(f"{case.source}: cannot write fitted.toml: {exc}") from None
+    stamp = _dt.datetime.now(_dt.timezone.utc).strftime("%Y-%m-%d %H:%M UTC")
+    files = {"fitted.toml": toml.encode(), "fit.json": writers.fit_json(result).encode(),
+             "fit.html": writers.fit_html(result, case, stamp).encode()}
+    try:
+        writers.write_set(out, files)
+    except FileExistsError as exc:
+        raise UsageError(f"--out {args.out}: {exc}") from None
+    print(writers.summary(result, str(out), list(files)))
     return 0
 
 
@@ -245,6 +277,20 @@ def build_parser() -> argparse.ArgumentParser:
     c.add_argument("--compare-tax", action="store_true",
                    help="show the after-tax EAC beside the before-tax one (a case with [study] tax_rate)")
     c.set_defaults(func=cmd_life)
+
+    c = sub.add_parser("fit", help="fit O&M and market-value curves from work-order, fuel and sale records")
+    c.add_argument("case")
+    c.add_argument("--costs", action="append", required=True, metavar="FILE",
+                   help="cost records unit,date|year,amount[,kind] (CSV or .xlsx; repeat for several files)")
+    c.add_argument("--sales", metavar="FILE", help="sale records type|unit,date|year,price[,age]")
+    c.add_argument("--units", metavar="FILE", help="units id,type,in_service[,out_of_service] (e.g. units sold)")
+    c.add_argument("--index", metavar="FILE", help="price index year,index: amounts to constant start-year money")
+    c.add_argument("--inflation", type=float, metavar="R", help="constant inflation rate per year instead of --index")
+    c.add_argument("--intervals", choices=("ols", "bootstrap"), default="ols",
+                   help="standard errors and 90 %% intervals: OLS formulae, or a bootstrap over units (ols)")
+    c.add_argument("--uncertain", action="store_true", help="add [[uncertain]] blocks of the fitted intervals")
+    c.add_argument("--out", required=True, help="folder for fitted.toml, fit.json and fit.html")
+    c.set_defaults(func=cmd_fit)
 
     c = sub.add_parser("plan", help="least-cost renewal plan of the whole fleet (capped when the case has a budget)")
     c.add_argument("case")
