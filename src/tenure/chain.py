@@ -13,7 +13,9 @@ year ``k``) a unit of type ``t`` and age ``a`` is held; its vintage is
   the new unit's first-year O&M at ``k+1``.
 
 States at ``k = H`` carry the end value (docs/conventions.md).  Every cost is
-discounted to time 0.
+discounted to time 0.  An inventory unit already past its max age (overdue) is a
+state ``(0, t, a)`` with ``a > max_age(t)``: it has no keep arc, so it is sold at
+time 0 at its market value.
 
 :class:`StageGraph` holds the graph as arc-cost tables indexed by
 ``(k, t, a)``, which is what makes the recursion one numpy step per stage.
@@ -69,7 +71,7 @@ class StageGraph:
     om_keep : ndarray (H, T, A+1)
         O&M paid at k+1 by a unit of age a kept through year k (inf where keep is not allowed).
     value : ndarray (H+1, T, A+1)
-        Market value of a unit of age a sold at time k.
+        Market value of a unit of age a sold at time k (ages past max age only at k = 0: overdue units).
     keep_pw, buy_pw, sale_pw : present worths of the above
         ``keep_pw[k,t,a] = om_keep·v^(k+1)``; ``buy_pw[k,t] = price·v^k + om_new·v^(k+1)``
         (inf where not buyable); ``sale_pw[k,t,a] = value·v^k``.
@@ -78,7 +80,7 @@ class StageGraph:
         ("salvage": minus the discounted market value; "continuing": the
         discounted least cost of keeping then an endless best chain).
     valid : bool ndarray (T, A+1)
-        Ages that exist for each type (a ≤ max_age).
+        Ages that exist for each type (a ≤ max_age); A also covers the oldest overdue inventory unit.
     """
 
     class_: str
@@ -140,7 +142,9 @@ def build_class_graph(case: Case, class_: str) -> StageGraph:
     H, y0, i = s.horizon, s.start_year, s.discount_rate
     types = case.types_of(class_)
     T = len(types)
-    A = max(t.max_age for t in types)
+    # an overdue inventory unit (age past max_age) is a starting state that can only be sold at time 0
+    ids = {t.id for t in types}
+    A = max([t.max_age for t in types] + [u.age for u in case.units if u.type in ids])
     k = np.arange(H)
     kk = np.arange(H + 1)
     ages = np.arange(A + 1)
@@ -158,7 +162,7 @@ def build_class_graph(case: Case, class_: str) -> StageGraph:
     om_keep = np.where(keep_ok[None, :, :], om_keep, np.inf)
     value = np.stack([np.asarray(curves.market_value(t, ages[None, :], (y0 + kk)[:, None], y0)) for t in types],
                      axis=1)
-    value = np.where(valid[None, :, :], value, 0.0)
+    value = np.where(valid[None, :, :] | (kk == 0)[:, None, None], value, 0.0)
 
     v = np.asarray(money.pf(i, kk))
     keep_pw = om_keep * v[1:, None, None]
@@ -288,7 +292,8 @@ def backward(g: StageGraph, buy_pw: np.ndarray | None = None, sale_pw: np.ndarra
         pol[k] = j
         np.copyto(pol[k], KEEP, where=use_keep)
         best[k] = j
-    V[:H, ~g.valid] = np.inf
+    # ... except at k = 0, where an age past max age is an overdue unit that must be sold now
+    V[1:H, ~g.valid] = np.inf
     return ChainSolution(graph=g, value=V, policy=pol, best_buy=best, keep_value=keepv, replace_value=repv)
 
 

@@ -40,7 +40,10 @@ class Event:
 
 @dataclass(frozen=True)
 class UnitPlan:
-    """The schedule of one unit and its present cost [money, time 0]."""
+    """The schedule of one unit and its present cost [money, time 0].
+
+    ``attributes`` are the inventory's kept columns of the unit's row, (name, text) pairs.
+    """
 
     unit: str
     class_: str
@@ -50,6 +53,7 @@ class UnitPlan:
     present_cost: float
     end_type: str
     end_age: int
+    attributes: tuple[tuple[str, str], ...] = ()
 
 
 @dataclass(frozen=True)
@@ -155,7 +159,7 @@ class Plan:
             ],
             "units": [
                 {"unit": u.unit, "class": u.class_, "start_type": u.start_type, "start_age": u.start_age,
-                 "present_cost": _r(u.present_cost),
+                 "present_cost": _r(u.present_cost), "attributes": dict(u.attributes),
                  "events": [{"year": e.year, "action": e.action, "type": e.type, "from_type": e.from_type,
                              "from_age": e.from_age, "price": _r(e.price), "market_value": _r(e.market_value),
                              "defer_cost": _r(e.defer_cost), "advance_cost": _r(e.advance_cost)}
@@ -203,6 +207,7 @@ def assemble(case: Case, graphs: dict[str, StageGraph], groups: Sequence[PathGro
     held = {class_of[u.type] for u in case.units}
     by_class: dict[str, float] = {c: 0.0 for c in case.classes if c in held}
     units: list[UnitPlan] = []
+    attrs = {name: u.attributes for u in case.units for name in u.names()}
     total = 0.0
     for grp in groups:
         g = graphs[grp.class_]
@@ -234,7 +239,8 @@ def assemble(case: Case, graphs: dict[str, StageGraph], groups: Sequence[PathGro
         t0, a0 = grp.start
         for name in grp.units:
             units.append(UnitPlan(unit=name, class_=grp.class_, start_type=g.types[t0], start_age=a0,
-                                  events=tuple(events), present_cost=cost, end_type=g.types[t], end_age=int(a)))
+                                  events=tuple(events), present_cost=cost, end_type=g.types[t], end_age=int(a),
+                                  attributes=attrs.get(name, ())))
     order = {name: j for j, name in enumerate(_unit_order(case))}
     units.sort(key=lambda u: order.get(u.unit, len(order)))
     years = []

@@ -8,10 +8,15 @@ TYPE_KEYS = (
     "id", "class", "price", "price_change", "buy_from", "buy_until",
     "max_age", "om", "om_change", "salvage",
 )
-UNIT_KEYS = ("id", "type", "age", "count")
-FLEET_KEYS = ("file",)
+UNIT_KEYS = ("id", "type", "age", "count", "in_service", "model_year", "attributes")
+FLEET_KEYS = ("file", "sheet", "group_by")
+#: required inventory columns, besides exactly one of AGE_COLUMNS
 CSV_COLUMNS = ("id", "type", "age")
+AGE_COLUMNS = ("age", "in_service", "model_year")
 CSV_OPTIONAL = ("count",)
+#: kept inventory columns may not take the name of a units.csv column
+RESERVED_COLUMNS = ("unit", "class", "start_type", "start_age", "year", "action", "from_type", "from_age", "price",
+                    "market_value", "defer_cost", "advance_cost", "present_cost", "attributes")
 BUDGET_KEYS = ("cap", "cap_by_year", "basis")
 LIMIT_KEYS = ("class", "max_buys_per_year")
 SCENARIO_KEYS = ("id", "note", "set")

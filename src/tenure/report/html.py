@@ -452,8 +452,9 @@ def plan_charts(plan, case: Case, life_tables) -> list[tuple[str, str, str, str]
     return out
 
 
-def plan_report(plan, case: Case, life_tables) -> str:
-    """The whole ``report.html`` of a plan."""
+def plan_report(plan, case: Case, life_tables, extra: dict | None = None) -> str:
+    """The whole ``report.html`` of a plan; ``extra`` holds HTML parts by place ("summary", "first_years", "tables")."""
+    extra = extra or {}
     s = case.study
     last = s.start_year + s.horizon - 1
     title = s.title or "Renewal plan"
@@ -470,10 +471,10 @@ def plan_report(plan, case: Case, life_tables) -> str:
                 "holds every "
                 "figure.</p>")
     body.append('<section id="summary"><h2>Summary</h2>')
-    body.append(summary_html(plan, case))
+    body.append(summary_html(plan, case) + extra.get("summary", ""))
     body.append("</section>")
     body.append('<section id="first-years"><h2>Replacements in the first five years</h2>')
-    body.append(first_years_html(plan, case))
+    body.append(extra.get("first_years") or first_years_html(plan, case))
     body.append("</section>")
     body.append('<section id="charts"><h2>Charts</h2>')
     for cid, ttl, read, svg in plan_charts(plan, case, life_tables):
@@ -486,7 +487,7 @@ def plan_report(plan, case: Case, life_tables) -> str:
     body.append("<details><summary>Year by year: capital, market value received, O&amp;M, cap</summary>"
                 f'<p class="money-note">Undiscounted amounts in constant {s.start_year} currency; O&amp;M is paid '
                 "at the end of the year. Room under cap is on the cap's basis.</p>"
-                + years_table_html(plan, case) + "</details>")
+                + years_table_html(plan, case) + "</details>" + extra.get("tables", ""))
     body.append("</section>")
     body.append('<section id="assumptions"><h2>Assumptions</h2>')
     body.append(assumptions_html(case))
