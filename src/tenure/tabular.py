@@ -135,8 +135,9 @@ def _build(name: str, sheet: str | None, header: list, body: list[list], rows: l
         if not text:
             if any(j < len(r) and r[j] != "" for r in body):
                 place = f"column {letters[j]}" if letters else f"column {j + 1}"
-                raise TableError(name, f"header, {place}", "has values but no header; give the column a name "
-                                 "or delete it")
+                raise TableError(name, (f"sheet {sheet!r} " if sheet else "") + f"header, {place}",
+                                 "has values but no header; give the column a name or delete it (the header is "
+                                 "the first row with a value)")
             continue
         key = header_key(text)
         if key in written:
