@@ -17,7 +17,7 @@ from typing import Any, Callable, Mapping
 
 from ..model import AssetType, Unit
 from ..tabular import Table, TableError, header_key, read_table
-from .keys import AGE_COLUMNS, CSV_OPTIONAL, FLEET_KEYS, RESERVED_COLUMNS, UNIT_KEYS
+from .keys import AGE_COLUMNS, CSV_OPTIONAL, FLEET_KEYS, RESERVED_COLUMNS, UNIT_KEYS, UNIT_MORE_KEYS
 from .problems import Checker, Problem, blocks
 
 #: what the header must hold, in the words of the messages
@@ -176,7 +176,7 @@ def _block_rows(chk: Checker, doc: Mapping) -> list[tuple[dict, Checker, Callabl
     out = []
     for j, b in enumerate(blocks(chk, doc, "unit"), start=1):
         p = f"unit[{j}]"
-        chk.keys(b, UNIT_KEYS, p)
+        chk.keys(b, UNIT_KEYS + UNIT_MORE_KEYS, p)
         row = dict(b)
         attrs = row.get("attributes", {})
         if not isinstance(attrs, dict) or any(isinstance(v, (dict, list)) for v in attrs.values()):

@@ -8,7 +8,9 @@ TYPE_KEYS = (
     "id", "class", "price", "price_change", "buy_from", "buy_until",
     "max_age", "om", "om_change", "salvage",
 )
-UNIT_KEYS = ("id", "type", "age", "count", "in_service", "model_year", "attributes")
+UNIT_KEYS = ("id", "type", "age", "count")
+#: further keys of a [[unit]] block (not scenario override targets: overrides see resolved ages)
+UNIT_MORE_KEYS = ("in_service", "model_year", "attributes")
 FLEET_KEYS = ("file", "sheet", "group_by")
 #: required inventory columns, besides exactly one of AGE_COLUMNS
 CSV_COLUMNS = ("id", "type", "age")
