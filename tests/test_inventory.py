@@ -60,9 +60,9 @@ ROWS = [("V1", "van", 2, "2027-06-15", 2028, "", "roads", "north yard"),
         ("C2", "cart", 0, "2030-02-10", 2030, "", "roads", "")]
 
 
-def _case_file(folder: Path, inventory: str, extra: str = "", fleet: str = "") -> Path:
+def _case_file(folder: Path, inventory: str, extra: str = "", fleet: str = "", types: str = TYPES) -> Path:
     path = folder / "case.toml"
-    path.write_text(TYPES + extra + f'\n[fleet]\nfile = "{inventory}"\n{fleet}', encoding="utf-8")
+    path.write_text(types + extra + f'\n[fleet]\nfile = "{inventory}"\n{fleet}', encoding="utf-8")
     return path
 
 
@@ -327,7 +327,9 @@ def test_buy_list_totals_equal_years_csv_on_a_capped_fleet(tmp_path, capsys):
         rows.append(f"U{j:02d},{t},{2029 - j % 6}-0{1 + j % 9}-1{j % 10},{1 + j % 3},{depts[j % 3]}")
     (tmp_path / "f.csv").write_text("\n".join(rows) + "\n", encoding="utf-8")
     path = _case_file(tmp_path, "f.csv", extra="\n[budget]\ncap = 330000\ncap_by_year = { 2031 = 250000 }\n",
-                      fleet='group_by = "department"\n')
+                      fleet='group_by = "department"\n',
+                      # prices that change by 1.37 % a year have fractions of a cent to reconcile
+                      types=TYPES.replace("price = 40000\n", "price = 40000\nprice_change = 0.0137\n"))
     out = tmp_path / "out"
     code, _, _ = _run(["plan", str(path), "--out", str(out), "--quiet", "--list-years", "3"], capsys)
     assert code == 0

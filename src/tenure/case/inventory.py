@@ -103,8 +103,11 @@ def _age(sub: Checker, row: Mapping, where: Callable[[str], str], start_year: in
             sub.bad(where(col), f"= {day.isoformat()}: after the end of the start year {start_year}; the inventory "
                     f"holds units in service by {start_year}-12-31")
             return None
+        if day.year < start_year - 200:
+            sub.bad(where(col), f"= {day.isoformat()}: more than 200 years before the start year {start_year}")
+            return None
         return age_from_date(start_year, day)
-    year = sub.integer_value(row[col], where(col), lo=1800, hi=start_year,
+    year = sub.integer_value(row[col], where(col), lo=start_year - 200, hi=start_year,
                              what=f"a calendar year ≤ the start year {start_year}")
     return None if year is None else age_from_model_year(start_year, year)
 
