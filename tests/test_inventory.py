@@ -374,3 +374,11 @@ def test_apportioned_cents_add_up_to_the_rounded_total():
     amounts = [10.003333, 10.003333, 10.003334]
     got = buylist.apportion(amounts, buylist.cents(sum(amounts)))
     assert sum(got) == 3001 and sorted(got) == [1000, 1000, 1001]
+
+
+def test_by_an_unknown_column_is_a_usage_error(tmp_path, capsys):
+    _csv(tmp_path, "f.csv", ["id", "type", "age", "count", "department", "location"], 2, ",")
+    code, _, err = _run(["plan", str(_case_file(tmp_path, "f.csv")), "--out", str(tmp_path / "o"), "--quiet",
+                         "--by", "Departmnt"], capsys)
+    assert code == 2 and "did you mean 'department'" in err and "kept columns: department, location" in err
+    assert not (tmp_path / "o").exists()
