@@ -217,7 +217,8 @@ BAD_INPUTS: list[BadInput] = [
              "limit[1].class", "(classes: cart, van)"),
     # ages and the study frame
     BadInput("negative unit age is refused", _set("unit", 0, "age", -1), "unit[1].age", "in [0, 200]"),
-    BadInput("unit age beyond max_age is refused", _set("unit", 0, "age", 7), "unit[1].age", "max_age = 6"),
+    # an age past max_age is an overdue unit (accepted, replaced in the first year; tests/test_inventory.py)
+    BadInput("unit age beyond 200 years is refused", _set("unit", 0, "age", 250), "unit[1].age", "in [0, 200]"),
     BadInput("horizon of 0 is refused", _set("study", "horizon", 0), "study.horizon", "[1, 200]"),
     BadInput("discount rate of -1 is refused", _set("study", "discount_rate", -1.0),
              "study.discount_rate", "> -1"),

@@ -249,7 +249,7 @@ def test_infeasible_and_empty_plans_render(capped, tmp_path):
     page = documents.plan_html(empty, case)
     assert tuple(figures(page)) == UNCAPPED_CHARTS
     book = openpyxl.load_workbook(io.BytesIO(documents.plan_xlsx(empty, case)))
-    assert book.sheetnames == ["summary", "years", "units", "policy", "assumptions"]
+    assert book.sheetnames == ["summary", "years", "units", "buy list", "policy", "assumptions"]
     summary = {r[0]: r[1] for r in book["summary"].iter_rows(min_row=2, values_only=True) if r[0]}
     # no plan: the status and the shortfall are there, the cost cell is empty (not NaN), nothing was bought
     assert summary["status"] == "infeasible" and summary["present cost"] is None
@@ -263,13 +263,14 @@ def test_unit_years_follow_the_schedule(demo):
     case, plan = demo
     uy = charts.unit_years(plan, case)
     by_name = dict(zip((u.unit for u in plan.units), uy))
-    # RT-L14#1 is 14 (its max age) in 2027: replaced at once by an rt-diesel, age 0, then 1 …
-    assert by_name["RT-L14#1"][0] == ("rt-diesel", 0) and by_name["RT-L14#1"][1] == ("rt-diesel", 1)
-    # RT-D08#1 keeps its rt-diesel until its first replacement
-    first = plan.units[[u.unit for u in plan.units].index("RT-D08#1")].events[0]
+    # a unit row without a count keeps its id in every output (issue 12): RT-L14, not RT-L14#1
+    # RT-L14 is 14 (its max age) in 2027: replaced at once by an rt-diesel, age 0, then 1 …
+    assert by_name["RT-L14"][0] == ("rt-diesel", 0) and by_name["RT-L14"][1] == ("rt-diesel", 1)
+    # RT-D08 keeps its rt-diesel until its first replacement
+    first = plan.units[[u.unit for u in plan.units].index("RT-D08")].events[0]
     k = first.year - case.study.start_year
-    assert by_name["RT-D08#1"][k - 1] == ("rt-diesel", 8 + k - 1)
-    assert by_name["RT-D08#1"][k] == (first.type, 0)
+    assert by_name["RT-D08"][k - 1] == ("rt-diesel", 8 + k - 1)
+    assert by_name["RT-D08"][k] == (first.type, 0)
     for u, row in zip(plan.units, uy):
         for t, a in row:
             assert a < case.type(t).max_age
@@ -310,7 +311,7 @@ def _header(ws) -> list:
 
 def test_workbook_sheets_headers_and_formats(demo_out):
     wb = openpyxl.load_workbook(demo_out[0] / "plan.xlsx")
-    assert wb.sheetnames == ["summary", "years", "units", "policy", "assumptions"]
+    assert wb.sheetnames == ["summary", "years", "units", "buy list", "policy", "assumptions"]  # "buy list": issue 12
     for ws in wb:
         assert ws.freeze_panes in ("A2", "B2"), ws.title
         assert all(ws.column_dimensions[k].width >= 5 for k in ws.column_dimensions), ws.title

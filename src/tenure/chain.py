@@ -17,6 +17,9 @@ discounted to time 0.  With ``[study] tax_rate`` the arc costs are after tax
 (docs/conventions.md, "Income tax"; the pieces come from :mod:`tenure.tax`):
 O&M less tax, less the depreciation shield of the service year, and each sale
 less the tax on its market value over book value.
+An inventory unit already past its max age (overdue) is a
+state ``(0, t, a)`` with ``a > max_age(t)``: it has no keep arc, so it is sold at
+time 0 at its market value.
 
 :class:`StageGraph` holds the graph as arc-cost tables indexed by
 ``(k, t, a)``, which is what makes the recursion one numpy step per stage.
@@ -75,7 +78,7 @@ class StageGraph:
     om_keep : ndarray (H, T, A+1)
         O&M paid at k+1 by a unit of age a kept through year k (inf where keep is not allowed).
     value : ndarray (H+1, T, A+1)
-        Market value of a unit of age a sold at time k.
+        Market value of a unit of age a sold at time k (ages past max age only at k = 0: overdue units).
     keep_pw, buy_pw, sale_pw : present worths of the above
         ``keep_pw[k,t,a] = om_keep·v^(k+1)``; ``buy_pw[k,t] = price·v^k + om_new·v^(k+1)``
         (inf where not buyable); ``sale_pw[k,t,a] = value·v^k``.
@@ -84,7 +87,7 @@ class StageGraph:
         ("salvage": minus the discounted market value; "continuing": the
         discounted least cost of keeping then an endless best chain).
     valid : bool ndarray (T, A+1)
-        Ages that exist for each type (a ≤ max_age).
+        Ages that exist for each type (a ≤ max_age); A also covers the oldest overdue inventory unit.
     tax_rate : float or None
         When set, ``keep_pw``, ``buy_pw``, ``sale_pw`` and ``end_pw`` are after
         tax (docs/conventions.md, "Income tax"); ``price``, ``om_*`` and
@@ -155,7 +158,9 @@ def build_class_graph(case: Case, class_: str) -> StageGraph:
     H, y0, i = s.horizon, s.start_year, s.discount_rate
     types = case.types_of(class_)
     T = len(types)
-    A = max(t.max_age for t in types)
+    # an overdue inventory unit (age past max_age) is a starting state that can only be sold at time 0
+    ids = {t.id for t in types}
+    A = max([t.max_age for t in types] + [u.age for u in case.units if u.type in ids])
     k = np.arange(H)
     kk = np.arange(H + 1)
     ages = np.arange(A + 1)
@@ -173,7 +178,7 @@ def build_class_graph(case: Case, class_: str) -> StageGraph:
     om_keep = np.where(keep_ok[None, :, :], om_keep, np.inf)
     value = np.stack([np.asarray(curves.market_value(t, ages[None, :], (y0 + kk)[:, None], y0)) for t in types],
                      axis=1)
-    value = np.where(valid[None, :, :], value, 0.0)
+    value = np.where(valid[None, :, :] | (kk == 0)[:, None, None], value, 0.0)
 
     v = np.asarray(money.pf(i, kk))
     keep_cash, new_cash, sale_cash, book = om_keep, om_new, value, None
@@ -333,7 +338,8 @@ def backward(g: StageGraph, buy_pw: np.ndarray | None = None, sale_pw: np.ndarra
         np.copyto(V[k], keep, where=use_keep)
         pol[k] = j
         np.copyto(pol[k], KEEP, where=use_keep)
-    V[:H, ~g.valid] = np.inf
+    # ... except at k = 0, where an age past max age is an overdue unit that must be sold now
+    V[1:H, ~g.valid] = np.inf
     return ChainSolution(graph=g, value=V, policy=pol, replace_value=repv)
 
 

@@ -140,19 +140,36 @@ def cmd_plan(args) -> int:
         raise UsageError(f"--time-limit {args.time_limit!r}: must be a number of seconds > 0")
     if not (0 <= args.gap < 1):
         raise UsageError(f"--gap {args.gap!r}: must be a fraction in [0, 1), e.g. 0.005")
+    by = _by_column(case, args.by)
+    if args.list_years < 1:
+        raise UsageError(f"--list-years {args.list_years!r}: must be a whole number of planning years ≥ 1")
     plan = api.solve(case, solver=args.solver, time_limit=args.time_limit, gap=args.gap, progress=not args.quiet)
     out = Path(args.out)
-    written = [p.name for p in write_plan(plan, out)]
-    written += _extra_writers(plan, case, out, progress=not args.quiet)
+    group = by if by is not None else case.group_by
+    written = [p.name for p in write_plan(plan, out, list_years=args.list_years, group_by=group)]
+    written += _extra_writers(plan, case, out, list_years=args.list_years, by=by, progress=not args.quiet)
     print(text.plan_summary(plan, case, str(out), written))
     return EXIT_INFEASIBLE if plan.status in ("infeasible", "unsolved") else 0
 
 
-def _extra_writers(plan, case, out: Path, progress: bool = True) -> list[str]:
+def _by_column(case, by: str | None) -> str | None:
+    """``--by COLUMN`` as a kept inventory column (matched like headers), or None."""
+    if by is None:
+        return None
+    from .tabular import header_key
+
+    kept = list(case.attribute_names)
+    if header_key(by) not in kept:
+        raise UsageError(f"--by {by!r}: not a kept column of the inventory{_near(header_key(by), kept)} "
+                         f"(kept columns: {', '.join(kept) if kept else 'none'})")
+    return header_key(by)
+
+
+def _extra_writers(plan, case, out: Path, **options) -> list[str]:
     """Human-facing files (report, spreadsheet); returns their names."""
     from .report import documents
 
-    paths = documents.write_all(plan, case, out, progress=progress) or []
+    paths = documents.write_all(plan, case, out, **options) or []
     return [Path(p).name for p in paths]
 
 
@@ -299,6 +316,11 @@ def build_parser() -> argparse.ArgumentParser:
     c.add_argument("--time-limit", type=float, default=120.0, help="seconds for a capped solve (120)")
     c.add_argument("--gap", type=float, default=0.005, help="relative optimality gap to stop at (0.005)")
     c.add_argument("--quiet", action="store_true", help="no progress line")
+    c.add_argument("--list-years", type=int, default=2, metavar="N",
+                   help="planning years covered by buy-list.csv and the spreadsheet's buy list (2)")
+    c.add_argument("--by", metavar="COLUMN",
+                   help="kept inventory column (e.g. department) to group the buy list and summaries by "
+                        "(default: [fleet] group_by)")
     c.set_defaults(func=cmd_plan)
 
     c = sub.add_parser("policy", help="optimal keep/replace action by year and age for one class (uncapped)")

@@ -33,6 +33,7 @@ from typing import Any, Mapping, Sequence
 import numpy as np
 
 from .case import TYPE_KEYS, CaseError, Problem, build_case
+from .case.keys import UNIT_KEYS, UNIT_MORE_KEYS
 from .model import Case
 
 #: source name used in problems about frames
@@ -100,6 +101,16 @@ def _unflatten(rec: dict, path: str, problems: list[Problem]) -> dict:
     return out
 
 
+def _unit_block(rec: dict) -> dict:
+    """An inventory row as a ``[[unit]]`` block: columns other than the unit keys are kept attributes."""
+    known = set(UNIT_KEYS) | set(UNIT_MORE_KEYS)
+    out = {k: v for k, v in rec.items() if k in known}
+    extra = {k: v for k, v in rec.items() if k not in known}
+    if extra:
+        out["attributes"] = {**extra, **out.get("attributes", {})}
+    return out
+
+
 def case_document(study: Mapping, types: Any, inventory: Any, budget: Mapping | None = None, limits: Any = None,
                   scenarios: Any = None, uncertain: Any = None) -> tuple[dict, list[Problem]]:
     """The case document (as ``tomllib`` would parse it) and the problems only frames can have."""
@@ -108,7 +119,7 @@ def case_document(study: Mapping, types: Any, inventory: Any, budget: Mapping | 
     doc["study"] = plain(dict(study)) if isinstance(study, Mapping) else study
     doc["asset_type"] = [_unflatten(r, f"asset_type[{j}]", problems)
                          for j, r in enumerate(_records(types, "types"), start=1)]
-    doc["unit"] = _records(inventory, "inventory")
+    doc["unit"] = [_unit_block(r) for r in _records(inventory, "inventory")]
     if budget is not None:
         doc["budget"] = plain(dict(budget)) if isinstance(budget, Mapping) else budget
     for key, rows in (("limit", limits), ("scenario", scenarios), ("uncertain", uncertain)):
@@ -181,10 +192,13 @@ def types_frame(case: Case):
 
 
 def inventory_frame(case: Case):
-    """The inventory as a DataFrame: one row per inventory line, columns id, type, age [years], count."""
+    """The inventory as a DataFrame: one row per inventory line, columns id, type, age [years], count, then the
+    inventory's kept columns (department, …; None where a unit has none)."""
     import pandas as pd
 
-    return pd.DataFrame([(u.id, u.type, u.age, u.count) for u in case.units], columns=list(UNIT_FRAME_COLUMNS))
+    kept = list(case.attribute_names)
+    rows = [(u.id, u.type, u.age, u.count) + tuple(dict(u.attributes).get(k) for k in kept) for u in case.units]
+    return pd.DataFrame(rows, columns=list(UNIT_FRAME_COLUMNS) + kept)
 
 
 def case_frames(case: Case) -> dict[str, Any]:

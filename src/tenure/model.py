@@ -165,17 +165,31 @@ class Unit:
     """One inventory row: ``count`` identical units of one type and age.
 
     ``age`` is the completed years of service at the start of the start year
-    [years]; the units are named ``id#1 … id#count`` in every output.
+    [years] (docs/conventions.md, "Inventory ages"); it may exceed the type's
+    ``max_age`` (an overdue unit, replaced in the first planning year).  A row
+    without a count keeps its id in every output; a block of ``count`` > 1
+    units is named ``id#1 … id#count``.  ``attributes`` are the inventory's
+    other columns, (name, text) pairs in file order, carried into the outputs.
     """
 
     id: str
     type: str
     age: int
     count: int = 1
+    attributes: tuple[tuple[str, str], ...] = ()
 
     def names(self) -> list[str]:
         """Unit names used in outputs."""
+        if self.count == 1:
+            return [self.id]
         return [f"{self.id}#{j}" for j in range(1, self.count + 1)]
+
+    def attribute(self, name: str, default: str = "") -> str:
+        """The value of one kept column (``default`` when the row has none)."""
+        for k, v in self.attributes:
+            if k == name:
+                return v
+        return default
 
 
 @dataclass(frozen=True)
@@ -235,7 +249,8 @@ class Uncertain:
 class Case:
     """A validated case: the single input of every solver.
 
-    ``raw`` keeps the parsed document (with the inventory inlined) so that
+    ``group_by`` is the kept inventory column that buy lists and summaries are
+    grouped by (``[fleet] group_by``), or None.  ``raw`` keeps the parsed document (with the inventory inlined) so that
     scenario overrides can be applied and the result validated like any case.
     """
 
@@ -247,6 +262,7 @@ class Case:
     scenarios: tuple[Scenario, ...] = ()
     uncertain: tuple[Uncertain, ...] = ()
     source: str = "<memory>"
+    group_by: str | None = None
     raw: Mapping[str, Any] = field(default_factory=dict, repr=False, compare=False)
 
     # -- look-ups -------------------------------------------------------
@@ -289,3 +305,22 @@ class Case:
     @property
     def unit_count(self) -> int:
         return sum(u.count for u in self.units)
+
+    @property
+    def attribute_names(self) -> tuple[str, ...]:
+        """Names of the kept inventory columns, in order of first appearance."""
+        seen: dict[str, None] = {}
+        for u in self.units:
+            for k, _ in u.attributes:
+                seen.setdefault(k, None)
+        return tuple(seen)
+
+    def overdue(self) -> list[tuple[str, int, list[int], list[str]]]:
+        """Units past their type's max age, one entry per type in case order: (type, units, ages, unit names)."""
+        out = []
+        for t in self.types:
+            late = [u for u in self.units if u.type == t.id and u.age > t.max_age]
+            if late:
+                out.append((t.id, sum(u.count for u in late), sorted({u.age for u in late}),
+                            [n for u in late for n in u.names()]))
+        return out

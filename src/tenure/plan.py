@@ -79,7 +79,10 @@ class Event:
 
 @dataclass(frozen=True)
 class UnitPlan:
-    """The schedule of one unit and its present cost [money, time 0]."""
+    """The schedule of one unit and its present cost [money, time 0].
+
+    ``attributes`` are the inventory's kept columns of the unit's row, (name, text) pairs.
+    """
 
     unit: str
     class_: str
@@ -89,6 +92,7 @@ class UnitPlan:
     present_cost: float
     end_type: str
     end_age: int
+    attributes: tuple[tuple[str, str], ...] = ()
 
 
 @dataclass(frozen=True)
@@ -186,7 +190,8 @@ class Plan:
         """
         import pandas as pd
 
-        df = pd.DataFrame(list(event_rows(self)), columns=list(UNIT_COLUMNS))
+        kept = attribute_names(self)
+        df = pd.DataFrame(list(event_rows(self, kept)), columns=list(UNIT_COLUMNS) + kept)
         for col in ("start_age", "year", "from_age"):
             df[col] = df[col].astype("Int64")
         return df
@@ -195,11 +200,13 @@ class Plan:
         """One row per unit: its start, its replacements, its end state and present cost [money, time 0]."""
         import pandas as pd
 
+        kept = attribute_names(self)
         rows = [(u.unit, u.class_, u.start_type, u.start_age, len(u.events),
                  u.events[0].year if u.events else None, u.end_type, u.end_age, u.present_cost)
+                + tuple(dict(u.attributes).get(k, "") for k in kept)
                 for u in self.units]
         df = pd.DataFrame(rows, columns=["unit", "class", "start_type", "start_age", "replacements",
-                                         "first_replacement", "end_type", "end_age", "present_cost"])
+                                         "first_replacement", "end_type", "end_age", "present_cost"] + kept)
         df["first_replacement"] = df["first_replacement"].astype("Int64")
         return df
 
@@ -236,7 +243,7 @@ class Plan:
             ],
             "units": [
                 {"unit": u.unit, "class": u.class_, "start_type": u.start_type, "start_age": u.start_age,
-                 "present_cost": _r(u.present_cost),
+                 "present_cost": _r(u.present_cost), "attributes": dict(u.attributes),
                  "events": [{"year": e.year, "action": e.action, "type": e.type, "from_type": e.from_type,
                              "from_age": e.from_age, "price": _r(e.price), "market_value": _r(e.market_value),
                              "defer_cost": _r(e.defer_cost), "advance_cost": _r(e.advance_cost)}
@@ -289,6 +296,7 @@ def assemble(case: Case, graphs: dict[str, StageGraph], groups: Sequence[PathGro
     held = {class_of[u.type] for u in case.units}
     by_class: dict[str, float] = {c: 0.0 for c in case.classes if c in held}
     units: list[UnitPlan] = []
+    attrs = {name: u.attributes for u in case.units for name in u.names()}
     total = 0.0
     for grp in groups:
         g = graphs[grp.class_]
@@ -320,7 +328,8 @@ def assemble(case: Case, graphs: dict[str, StageGraph], groups: Sequence[PathGro
         t0, a0 = grp.start
         for name in grp.units:
             units.append(UnitPlan(unit=name, class_=grp.class_, start_type=g.types[t0], start_age=a0,
-                                  events=tuple(events), present_cost=cost, end_type=g.types[t], end_age=int(a)))
+                                  events=tuple(events), present_cost=cost, end_type=g.types[t], end_age=int(a),
+                                  attributes=attrs.get(name, ())))
     order = {name: j for j, name in enumerate(_unit_order(case))}
     units.sort(key=lambda u: order.get(u.unit, len(order)))
     years = []
@@ -347,15 +356,27 @@ def _unit_order(case: Case) -> list[str]:
     return [name for u in case.units for name in u.names()]
 
 
-def event_rows(plan: Plan):
-    """Rows of units.csv in ``UNIT_COLUMNS`` order, values unformatted (None where a cell is empty)."""
+def attribute_names(plan: Plan) -> list[str]:
+    """The inventory's kept columns (department, …), in order of first appearance among the units."""
+    seen: dict[str, None] = {}
+    for u in plan.units:
+        for k, _ in u.attributes:
+            seen.setdefault(k, None)
+    return list(seen)
+
+
+def event_rows(plan: Plan, kept: Sequence[str] = ()):
+    """Rows of units.csv in ``UNIT_COLUMNS`` order, then the kept columns ``kept``; values unformatted
+    (None where a cell is empty, "" where a unit has no value for a kept column)."""
     for u in plan.units:
         head = (u.unit, u.class_, u.start_type, u.start_age)
+        attrs = dict(u.attributes)
+        tail = tuple(attrs.get(k, "") for k in kept)
         if not u.events:
-            yield head + (None, "keep", u.start_type, u.start_age, u.start_type, None, None, None, None)
+            yield head + (None, "keep", u.start_type, u.start_age, u.start_type, None, None, None, None) + tail
         for e in u.events:
             yield head + (e.year, e.action, e.from_type, e.from_age, e.type, e.price, e.market_value,
-                          e.defer_cost, e.advance_cost)
+                          e.defer_cost, e.advance_cost) + tail
 
 
 def year_rows(plan: Plan):

@@ -1,4 +1,4 @@
-"""Case files, format version 1: read TOML (+ optional CSV inventory), validate, build the model.
+"""Case files, format version 1: read TOML (+ optional CSV or .xlsx inventory), validate, build the model.
 
 Every problem of a case is collected before anything is reported, so a user
 fixes a file in one pass.  Each problem names the file, the field path (for
@@ -19,7 +19,7 @@ from typing import Any, Mapping
 
 from ..model import Case
 from .assets import _asset_types, _study
-from .inventory import _units
+from .inventory import _units, group_by, inline
 from .keys import (BUDGET_KEYS, CSV_COLUMNS, CSV_OPTIONAL, DISTRIBUTIONS, FLEET_KEYS, FORMAT_VERSION, LIMIT_KEYS,
                    SCENARIO_KEYS, STUDY_KEYS, TOP_KEYS, TYPE_KEYS, UNCERTAIN_KEYS, UNIT_KEYS)
 from .problems import CaseError, Checker, Problem, blocks
@@ -58,7 +58,7 @@ def build_case(doc: Mapping[str, Any], *, source: str = "<memory>", base_dir: Pa
     types = _asset_types(chk, doc)
     by_id = {t.id: t for t in types}
     all_ids = {b.get("id") for b in blocks(Checker(source), doc, "asset_type") if isinstance(b.get("id"), str)}
-    units = _units(chk, doc, by_id, all_ids, base_dir)
+    units = _units(chk, doc, by_id, all_ids, base_dir, study.start_year if study is not None else None)
     budget = _budget(chk, doc, study)
     classes = {t.class_ for t in types} | {b.get("class") for b in blocks(Checker(source), doc, "asset_type")
                                            if isinstance(b.get("class"), str)}
@@ -73,9 +73,12 @@ def build_case(doc: Mapping[str, Any], *, source: str = "<memory>", base_dir: Pa
     raw = copy.deepcopy(dict(doc))
     # inline the inventory so that overrides and copies do not depend on the CSV's location
     raw.pop("fleet", None)
-    raw["unit"] = [{"id": u.id, "type": u.type, "age": u.age, "count": u.count} for u in units]
+    raw["unit"] = inline(units)
+    grouping = group_by(doc)
+    if grouping is not None:
+        raw["fleet"] = {"group_by": grouping}
     return Case(study=study, types=tuple(types), units=tuple(units), budget=budget, limits=tuple(limits),
-                scenarios=tuple(scenarios), uncertain=tuple(uncertain), source=source, raw=raw)
+                scenarios=tuple(scenarios), uncertain=tuple(uncertain), source=source, group_by=grouping, raw=raw)
 
 
 def read_document(path: Path | str) -> dict[str, Any]:

@@ -9,9 +9,16 @@ TYPE_KEYS = (
     "max_age", "om", "om_change", "salvage", "depreciation",
 )
 UNIT_KEYS = ("id", "type", "age", "count")
-FLEET_KEYS = ("file",)
+#: further keys of a [[unit]] block (not scenario override targets: overrides see resolved ages)
+UNIT_MORE_KEYS = ("in_service", "model_year", "attributes")
+FLEET_KEYS = ("file", "sheet", "group_by")
+#: required inventory columns, besides exactly one of AGE_COLUMNS
 CSV_COLUMNS = ("id", "type", "age")
+AGE_COLUMNS = ("age", "in_service", "model_year")
 CSV_OPTIONAL = ("count",)
+#: kept inventory columns may not take the name of a units.csv column
+RESERVED_COLUMNS = ("unit", "class", "start_type", "start_age", "year", "action", "from_type", "from_age", "price",
+                    "market_value", "defer_cost", "advance_cost", "present_cost", "attributes")
 BUDGET_KEYS = ("cap", "cap_by_year", "basis")
 LIMIT_KEYS = ("class", "max_buys_per_year")
 SCENARIO_KEYS = ("id", "note", "set")

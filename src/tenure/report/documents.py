@@ -16,7 +16,7 @@ from ..life import life_table
 from ..model import Case
 from ..progress import bar
 from ..scenarios import Comparison
-from . import charts, files, html, xlsx
+from . import buylist, charts, files, grouped_html, groups, html, xlsx
 
 
 def life_tables(case: Case) -> list:
@@ -37,18 +37,35 @@ def policies(case: Case) -> dict:
     return out
 
 
-def plan_html(plan, case: Case) -> str:
-    """The text of ``report.html`` for a plan."""
+def _grouping(case: Case, by: str | None) -> str | None:
+    """The kept column that buy lists and summaries are grouped by: ``by`` (``--by``) or ``[fleet] group_by``."""
+    return by if by is not None else case.group_by
+
+
+def plan_html(plan, case: Case, list_years: int = buylist.DEFAULT_YEARS, by: str | None = None) -> str:
+    """The text of ``report.html`` for a plan (buy list of ``list_years`` years, summaries by the column ``by``)."""
+    col = _grouping(case, by)
+    extra = {"summary": grouped_html.overdue_html(case),
+             "first_years": grouped_html.first_years_html(plan, case, col) if col else None,
+             "tables": grouped_html.buy_list_html(buylist.buy_list(plan, list_years, col))
+             + (grouped_html.group_html(groups.group_summary(plan, col)) if col else "")}
     with np.errstate(all="ignore"):
-        return html.plan_report(plan, case, life_tables(case))
+        return html.plan_report(plan, case, life_tables(case), extra)
 
 
-def plan_xlsx(plan, case: Case) -> bytes:
-    """The bytes of ``plan.xlsx`` for a plan."""
-    return xlsx.workbook_bytes(plan, case, policies(case))
+def plan_xlsx(plan, case: Case, list_years: int = buylist.DEFAULT_YEARS, by: str | None = None) -> bytes:
+    """The bytes of ``plan.xlsx`` for a plan, with the "buy list" sheet (and "by COLUMN" when grouped)."""
+    col = _grouping(case, by)
+    bl = buylist.buy_list(plan, list_years, col)
+    sheets = [("buy list", lambda ws: buylist.buy_list_sheet(ws, bl))]
+    if col:
+        gs = groups.group_summary(plan, col)
+        sheets.append((f"by {col}", lambda ws: groups.group_sheet(ws, gs)))
+    return xlsx.workbook_bytes(plan, case, policies(case), extra_sheets=sheets)
 
 
-def write_all(plan, case: Case, out_dir, *, progress: bool = True) -> list[Path]:
+def write_all(plan, case: Case, out_dir, *, list_years: int = buylist.DEFAULT_YEARS, by: str | None = None,
+              progress: bool = True) -> list[Path]:
     """Write ``report.html`` and ``plan.xlsx`` into ``out_dir``; returns the paths.
 
     Both documents are rendered before either is written.  On large fleets
@@ -58,10 +75,10 @@ def write_all(plan, case: Case, out_dir, *, progress: bool = True) -> list[Path]
     out = Path(out_dir)
     with bar(2, "report", enabled=progress) as b:
         b.set_postfix_str("report.html")
-        page = plan_html(plan, case)
+        page = plan_html(plan, case, list_years, by)
         b.update()
         b.set_postfix_str("plan.xlsx")
-        book = plan_xlsx(plan, case)
+        book = plan_xlsx(plan, case, list_years, by)
         b.update()
     return [files.write_text(out / "report.html", page), files.write_bytes(out / "plan.xlsx", book)]
 

@@ -424,8 +424,9 @@ def plan_charts(plan, case: Case, life_tables) -> list[tuple[str, str, str, str]
     return out
 
 
-def plan_report(plan, case: Case, life_tables) -> str:
-    """The whole ``report.html`` of a plan (templates/plan.html.j2)."""
+def plan_report(plan, case: Case, life_tables, extra: dict | None = None) -> str:
+    """The whole ``report.html`` of a plan; ``extra`` holds HTML parts by place ("summary", "first_years", "tables")."""
+    extra = extra or {}
     s = case.study
     what = "a least-cost plan" if plan.status == "optimal" else "a plan" if plan.success else "an attempted plan"
     title = s.title or "Renewal plan"
@@ -433,9 +434,10 @@ def plan_report(plan, case: Case, life_tables) -> str:
                   last=s.start_year + s.horizon - 1, horizon=s.horizon, unit_count=case.unit_count,
                   method=plan.method, status=plan.status, what=what,
                   capped=any(y.cap is not None for y in plan.years),
-                  summary=Markup(summary_html(plan, case)), first_years=Markup(first_years_html(plan, case)),
+                  summary=Markup(summary_html(plan, case) + extra.get("summary", "")), first_years=Markup(extra.get("first_years") or first_years_html(plan, case)),
                   charts=[(cid, ttl, read, Markup(svg)) for cid, ttl, read, svg in plan_charts(plan, case, life_tables)],
                   class_table=Markup(class_table_html(plan, case)), years_table=Markup(years_table_html(plan, case)),
+                  extra_tables=Markup(extra.get("tables", "")),
                   assumptions=Markup(assumptions_html(case)), footer=Markup(footer_html(case)))
 
 

@@ -52,6 +52,7 @@ def case_summary(case: Case) -> str:
     out.append("")
     out.append(f"units: {case.unit_count} in {len(case.units)} inventory rows; types: {len(case.types)}; "
                f"classes: {len(case.classes)}")
+    out += overdue_lines(case)
     b = case.budget
     if b is None or (b.cap is None and not b.cap_by_year):
         out.append("budget: none (uncapped)")
@@ -63,6 +64,21 @@ def case_summary(case: Case) -> str:
     if case.scenarios:
         out.append("scenarios: " + ", ".join(sc.id for sc in case.scenarios))
     return "\n".join(out)
+
+
+def _ages_text(ages: list[int]) -> str:
+    return f"age {ages[0]}" if len(ages) == 1 else f"ages {ages[0]}–{ages[-1]}"
+
+
+def overdue_lines(case: Case) -> list[str]:
+    """One warning line per type with inventory units past its max age (replaced in the first planning year)."""
+    out = []
+    for tid, n, ages, names in case.overdue():
+        shown = ", ".join(names[:5]) + (f" and {len(names) - 5} more" if len(names) > 5 else "")
+        out.append(f"warning: overdue: {n} unit{'s' if n > 1 else ''} of {tid} past max age "
+                   f"{case.type(tid).max_age} ({_ages_text(ages)}: {shown}); the plan replaces "
+                   f"{'them' if n > 1 else 'it'} in {case.study.start_year}")
+    return out
 
 
 def life_text(lt: LifeTable, title: str = "") -> str:
@@ -86,6 +102,7 @@ def plan_summary(plan, case: Case, out_dir: str | None = None, written: list[str
     """The terminal summary of a plan: status, present cost, buys by class and type, capital by 5-year period."""
     s = case.study
     lines = [f"{s.title or 'plan'} — {plan.method}, status {plan.status}", rule()]
+    lines += overdue_lines(case)
     lines.append(f"present cost (time 0, {s.start_year} currency): {money(plan.present_cost)}")
     if s.tax_rate is not None:
         lines.append(f"{_taxnote.tax_line(case)}")

@@ -164,17 +164,19 @@ UNIT_HEAD = ("unit", "class", "type at start", "age at start", "year", "action",
 
 
 def units_sheet(ws, plan, case: Case):
+    kept = list(case.attribute_names)  # the inventory's other columns, after the plan's
     sh = _Sheet(ws)
-    sh.head(UNIT_HEAD)
+    sh.head(list(UNIT_HEAD) + kept)
     fmt = {9: MONEY, 10: MONEY, 11: MONEY, 12: MONEY, 13: MONEY}
     for u in plan.units:
         head = [u.unit, u.class_, u.start_type, u.start_age]
+        tail = [dict(u.attributes).get(k) for k in kept]
         if not u.events:
-            sh.put(head + [None, "keep", None, None, None, None, None, None, None, cent(u.present_cost)], fmt=fmt)
+            sh.put(head + [None, "keep", None, None, None, None, None, None, None, cent(u.present_cost)] + tail, fmt=fmt)
         for ev in u.events:
             sh.put(head + [ev.year, ev.action, ev.from_type, ev.from_age, ev.type, cent(ev.price),
-                           cent(ev.market_value), cent(ev.defer_cost), cent(ev.advance_cost),
-                           cent(u.present_cost)], fmt=fmt)
+                           cent(ev.market_value), cent(ev.defer_cost), cent(ev.advance_cost), cent(u.present_cost)] + tail,
+                   fmt=fmt)
     sh.finish(freeze="B2")
 
 
@@ -264,13 +266,15 @@ def assumptions_sheet(ws, case: Case):
     sh.finish(fixed={1: 26})
 
 
-def workbook_bytes(plan, case: Case, solutions: dict | None = None) -> bytes:
-    """The whole ``plan.xlsx`` as bytes."""
+def workbook_bytes(plan, case: Case, solutions: dict | None = None, extra_sheets=()) -> bytes:
+    """The whole ``plan.xlsx`` as bytes; ``extra_sheets`` are (title, fill(ws)) pairs added after "units"."""
     wb = Workbook()
     summary_sheet(wb.active, plan, case)
     wb.active.title = "summary"
     years_sheet(wb.create_sheet("years"), plan, case)
     units_sheet(wb.create_sheet("units"), plan, case)
+    for title, fill in extra_sheets:
+        fill(wb.create_sheet(title[:31]))
     policy_sheet(wb.create_sheet("policy"), case, solutions)
     assumptions_sheet(wb.create_sheet("assumptions"), case)
     wb.properties.creator = f"tenure {__version__}"
