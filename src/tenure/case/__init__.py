@@ -64,8 +64,9 @@ def build_case(doc: Mapping[str, Any], *, source: str = "<memory>", base_dir: Pa
     limits = _limits(chk, doc, classes)
     scenarios = _scenarios(chk, doc)
     uncertain = _uncertain(chk, doc)
-    if study is not None and not chk.problems:
-        _coverage(chk, study, types, units)
+    if study is not None:  # reported with the other problems; classes with an invalid type are left out
+        half_read = {b.get("class") for b in blocks(Checker(source), doc, "asset_type") if b.get("id") not in by_id}
+        _coverage(chk, study, types, units, skip=half_read)
     if chk.problems:
         raise CaseError(chk.problems)
     raw = copy.deepcopy(dict(doc))

@@ -62,10 +62,10 @@ def _limits(chk: Checker, doc: Mapping, classes: set[str]) -> list[Limit]:
     return out
 
 
-def _coverage(chk: Checker, study: Study, types: list[AssetType], units: list[Unit]) -> None:
-    """Each class that holds units must have a type to buy in every planning year."""
+def _coverage(chk: Checker, study: Study, types: list[AssetType], units: list[Unit], skip=frozenset()) -> None:
+    """Each class that holds units must have a type to buy in every planning year (``skip``: classes not judged)."""
     by_id = {t.id: t for t in types}
-    classes = {by_id[u.type].class_ for u in units if u.type in by_id}
+    classes = {by_id[u.type].class_ for u in units if u.type in by_id} - set(skip)
     for cls in sorted(classes):
         gaps = [y for y in study.years if not any(t.class_ == cls and t.buyable(y) for t in types)]
         if gaps:

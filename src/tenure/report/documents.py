@@ -14,7 +14,7 @@ import numpy as np
 
 from ..life import life_table
 from ..model import Case
-from . import charts, files, html, xlsx
+from . import charts, files, html, notes, xlsx
 
 
 def life_tables(case: Case) -> list:
@@ -34,31 +34,32 @@ def policies(case: Case) -> dict:
     return out
 
 
-def plan_html(plan, case: Case) -> str:
-    """The text of ``report.html`` for a plan."""
+def plan_html(plan, case: Case, run_id: str | None = None, warnings=()) -> str:
+    """The text of ``report.html`` for a plan (with the output set's run id and the case's warnings)."""
     with np.errstate(all="ignore"):
-        return html.plan_report(plan, case, life_tables(case))
+        return html.plan_report(plan, case, life_tables(case), notes=notes.run_notes_html(run_id, warnings))
 
 
-def plan_xlsx(plan, case: Case) -> bytes:
+def plan_xlsx(plan, case: Case, run_id: str | None = None, warnings=()) -> bytes:
     """The bytes of ``plan.xlsx`` for a plan."""
-    return xlsx.workbook_bytes(plan, case, policies(case))
+    return xlsx.workbook_bytes(plan, case, policies(case), run_id=run_id, warnings=warnings)
 
 
-def write_all(plan, case: Case, out_dir) -> list[Path]:
+def write_all(plan, case: Case, out_dir, run_id: str | None = None, warnings=()) -> list[Path]:
     """Write ``report.html`` and ``plan.xlsx`` into ``out_dir``; returns the paths.
 
-    Both documents are rendered before either is written.
+    Both documents are rendered before either is written.  ``run_id`` names the output set
+    (``report.transaction``); ``warnings`` are the case's plausibility warnings, listed in both.
     """
     out = Path(out_dir)
-    page = plan_html(plan, case)
-    book = plan_xlsx(plan, case)
+    page = plan_html(plan, case, run_id, warnings)
+    book = plan_xlsx(plan, case, run_id, warnings)
     return [files.write_text(out / "report.html", page), files.write_bytes(out / "plan.xlsx", book)]
 
 
 def compare_html(compare: dict, case: Case) -> str:
     """The text of ``report.html`` for a comparison of scenarios."""
-    return html.compare_report(compare, case)
+    return html.compare_report(compare, case, notes=notes.run_notes_html(compare.get("run_id")))
 
 
 def write_compare_report(compare: dict, case: Case, out_dir) -> Path:

@@ -452,7 +452,7 @@ def plan_charts(plan, case: Case, life_tables) -> list[tuple[str, str, str, str]
     return out
 
 
-def plan_report(plan, case: Case, life_tables) -> str:
+def plan_report(plan, case: Case, life_tables, notes: str = "") -> str:
     """The whole ``report.html`` of a plan."""
     s = case.study
     last = s.start_year + s.horizon - 1
@@ -491,7 +491,7 @@ def plan_report(plan, case: Case, life_tables) -> str:
     body.append('<section id="assumptions"><h2>Assumptions</h2>')
     body.append(assumptions_html(case))
     body.append("</section>")
-    body.append(footer_html(case))
+    body.append(notes + footer_html(case))  # notes: run id and warnings (report.notes)
     return page(f"{title} — renewal plan", "\n".join(body))
 
 
@@ -642,7 +642,7 @@ def differ_html(differ: list, ids: list[str]) -> str:
             + (f'<p class="money-note">… and {extra} more in compare.json.</p>' if extra > 0 else ""))
 
 
-def compare_report(cmp: dict, case: Case) -> str:
+def compare_report(cmp: dict, case: Case, notes: str = "") -> str:
     """The whole ``report.html`` of a comparison of scenarios."""
     cmp = cmp if isinstance(cmp, dict) else {}
     s = case.study
@@ -705,7 +705,7 @@ def compare_report(cmp: dict, case: Case) -> str:
     body.append('<section id="assumptions"><h2>Assumptions of the base case</h2>')
     body.append(assumptions_html(case))
     body.append("</section>")
-    body.append(footer_html(case))
+    body.append(notes + footer_html(case))  # notes: run id and warnings (report.notes)
     return page(f"{title} — scenario comparison", "\n".join(body))
 
 
