@@ -19,6 +19,8 @@ from contextlib import contextmanager
 from typing import Any, Callable
 
 POLL_S = 0.1  # seconds between two joins; a signal waits at most this long
+_working: set[int] = set()  # idents of workers not yet finished (Thread.is_alive() is unreliable after an
+#                             exception interrupted join() on Python < 3.13: the thread is then marked stopped)
 
 
 class Interrupted(BaseException):
@@ -51,14 +53,17 @@ def run_interruptible(fn: Callable[..., Any], *args, **kwargs) -> Any:
     box: dict[str, Any] = {}
 
     def work():
+        _working.add(threading.get_ident())
         try:
             box["value"] = fn(*args, **kwargs)
         except BaseException as exc:  # handed to the main thread
             box["error"] = exc
+        finally:
+            _working.discard(threading.get_ident())
 
     t = threading.Thread(target=work, name="tenure-solve", daemon=True)
     t.start()
-    while t.is_alive():
+    while "value" not in box and "error" not in box:
         t.join(POLL_S)
     if "error" in box:
         raise box["error"]
@@ -120,4 +125,4 @@ def hard_exit(code: int) -> None:
 
 def busy() -> bool:
     """True when a worker thread of :func:`run_interruptible` is still running."""
-    return any(t.name == "tenure-solve" and t.is_alive() for t in threading.enumerate())
+    return bool(_working)
