@@ -23,7 +23,7 @@ from .inventory import _units
 from .keys import (BUDGET_KEYS, CSV_COLUMNS, CSV_OPTIONAL, DISTRIBUTIONS, FLEET_KEYS, FORMAT_VERSION, LIMIT_KEYS,
                    SCENARIO_KEYS, STUDY_KEYS, TOP_KEYS, TYPE_KEYS, UNCERTAIN_KEYS, UNIT_KEYS)
 from .problems import CaseError, Checker, Problem, blocks
-from .rules import _budget, _coverage, _limits
+from .rules import _budget, _coverage, _limits, _size
 from .variants import _scenarios, _uncertain
 
 __all__ = ["CaseError", "Checker", "Problem", "blocks", "build_case", "load_case", "read_document", "FORMAT_VERSION",
@@ -58,6 +58,7 @@ def build_case(doc: Mapping[str, Any], *, source: str = "<memory>", base_dir: Pa
     by_id = {t.id: t for t in types}
     all_ids = {b.get("id") for b in blocks(Checker(source), doc, "asset_type") if isinstance(b.get("id"), str)}
     units = _units(chk, doc, by_id, all_ids, base_dir)
+    _size(chk, units)
     budget = _budget(chk, doc, study)
     classes = {t.class_ for t in types} | {b.get("class") for b in blocks(Checker(source), doc, "asset_type")
                                            if isinstance(b.get("class"), str)}
@@ -78,17 +79,41 @@ def build_case(doc: Mapping[str, Any], *, source: str = "<memory>", base_dir: Pa
 
 
 def read_document(path: Path | str) -> dict[str, Any]:
-    """Parse a TOML case file; a syntax error becomes a :class:`CaseError`."""
+    """Parse a TOML case file (a UTF-8 byte-order mark is accepted); any failure becomes a :class:`CaseError`."""
     path = Path(path)
-    if not path.is_file():
-        raise CaseError([Problem(str(path), "file", "no such case file")])
+    problem = file_problem(path, "case file")
+    if problem:
+        raise CaseError([Problem(str(path), "file", problem)])
     try:
-        with path.open("rb") as fh:
-            return tomllib.load(fh)
-    except tomllib.TOMLDecodeError as exc:
-        raise CaseError([Problem(str(path), "syntax", f"not valid TOML: {exc}")]) from None
+        data = path.read_bytes()
+    except OSError as exc:
+        raise CaseError([Problem(str(path), "file", f"cannot be read: {_reason(exc)}")]) from None
+    try:
+        text = data.decode("utf-8-sig")
     except UnicodeDecodeError as exc:
         raise CaseError([Problem(str(path), "file", f"not UTF-8 text: {exc}")]) from None
+    try:
+        return tomllib.loads(text)
+    except tomllib.TOMLDecodeError as exc:
+        raise CaseError([Problem(str(path), "syntax", f"not valid TOML: {exc}")]) from None
+
+
+def file_problem(path: Path, what: str) -> str | None:
+    """Why ``path`` cannot be read as a ``what`` (a folder is called a folder), or None."""
+    if path.is_dir():
+        return f"is a folder, not a {what}"
+    if not path.exists():
+        return f"no such {what}"
+    if not path.is_file():
+        return f"is not a regular file (a device, pipe or socket), not a {what}"
+    return None
+
+
+def _reason(exc: OSError) -> str:
+    import errno
+
+    return {errno.EACCES: "permission denied", errno.EPERM: "operation not permitted",
+            errno.EISDIR: "is a folder"}.get(exc.errno, exc.strerror or str(exc))
 
 
 def load_case(path: Path | str) -> Case:

@@ -9,7 +9,7 @@ from typing import Any, Mapping
 
 from ..model import AssetType, Unit
 from .keys import CSV_COLUMNS, CSV_OPTIONAL, FLEET_KEYS, UNIT_KEYS
-from .problems import Checker, blocks
+from .problems import UNITS_MAX, Checker, blocks
 
 
 def _csv_units(chk: Checker, fleet: Mapping, base_dir: Path) -> list[dict]:
@@ -19,7 +19,8 @@ def _csv_units(chk: Checker, fleet: Mapping, base_dir: Path) -> list[dict]:
         return []
     path = (base_dir / name) if not Path(name).is_absolute() else Path(name)
     if not path.is_file():
-        chk.bad("fleet.file", f"= {name!r}: no such file ({path}); give a CSV path relative to the case file")
+        why = "is a folder" if path.is_dir() else "no such file" if not path.exists() else "is not a regular file"
+        chk.bad("fleet.file", f"= {name!r}: {why} ({path}); give a CSV path relative to the case file")
         return []
     rows: list[dict] = []
     sub = Checker(str(path))
@@ -61,6 +62,8 @@ def _csv_units(chk: Checker, fleet: Mapping, base_dir: Path) -> list[dict]:
                 rows.append(row)
     except (UnicodeDecodeError, csv.Error) as exc:
         sub.bad("file", f"cannot be read as CSV text: {exc}")
+    except OSError as exc:
+        sub.bad("file", f"cannot be read: {exc.strerror or exc}")
     chk.problems.extend(sub.problems)
     return rows
 
@@ -89,7 +92,7 @@ def _units(chk: Checker, doc: Mapping, types: Mapping[str, AssetType], type_ids:
         uid = sub.string(row, "id", p)
         tid = sub.string(row, "type", p)
         age = sub.integer(row, "age", p, lo=0, hi=200, what="a whole number of years ≥ 0")
-        count = sub.integer(row, "count", p, required=False, default=1, lo=1, what="a whole number ≥ 1")
+        count = sub.integer(row, "count", p, required=False, default=1, lo=1, hi=UNITS_MAX, what="a whole number ≥ 1")
         if uid is not None:
             if uid in seen:
                 sub.bad(f"{p}.id", f"= {uid!r}: duplicate unit id (also {seen[uid]})")

@@ -7,7 +7,7 @@ from typing import Mapping
 
 from ..model import BUDGET_BASES, AssetType, Budget, Limit, Study, Unit
 from .keys import BUDGET_KEYS, LIMIT_KEYS
-from .problems import Checker, blocks, year_runs
+from .problems import CAP_MAX, UNITS_MAX, Checker, blocks, year_runs
 
 
 def _budget(chk: Checker, doc: Mapping, study: Study | None) -> Budget | None:
@@ -17,7 +17,7 @@ def _budget(chk: Checker, doc: Mapping, study: Study | None) -> Budget | None:
     if b is None:
         return None
     chk.keys(b, BUDGET_KEYS, "budget")
-    cap = chk.number(b, "cap", "budget", required=False, default=None, lo=0, what="money ≥ 0")
+    cap = chk.number(b, "cap", "budget", required=False, default=None, lo=0, hi=CAP_MAX, what="money ≥ 0")
     basis = chk.choice(b, "basis", "budget", BUDGET_BASES, "gross")
     by_year: dict[int, float] = {}
     if "cap_by_year" in b:
@@ -33,7 +33,7 @@ def _budget(chk: Checker, doc: Mapping, study: Study | None) -> Budget | None:
                 chk.bad(where, f"year {year} is outside the horizon {study.start_year} … "
                         f"{study.start_year + study.horizon - 1}")
                 continue
-            v = chk.number_value(val, where, lo=0, what="money ≥ 0")
+            v = chk.number_value(val, where, lo=0, hi=CAP_MAX, what="money ≥ 0")
             if v is not None:
                 by_year[year] = v
     return Budget(cap=cap, cap_by_year=by_year, basis=basis)
@@ -46,7 +46,7 @@ def _limits(chk: Checker, doc: Mapping, classes: set[str]) -> list[Limit]:
         p = f"limit[{j}]"
         chk.keys(b, LIMIT_KEYS, p)
         cls = chk.string(b, "class", p)
-        n = chk.integer(b, "max_buys_per_year", p, lo=0, what="a whole number ≥ 0")
+        n = chk.integer(b, "max_buys_per_year", p, lo=0, hi=UNITS_MAX, what="a whole number ≥ 0")
         if cls is not None:
             if classes and cls not in classes:
                 near = difflib.get_close_matches(cls, sorted(classes), n=1, cutoff=0.5)
@@ -72,3 +72,11 @@ def _coverage(chk: Checker, study: Study, types: list[AssetType], units: list[Un
             runs = year_runs(gaps)
             chk.bad(f"class {cls!r}", f"no asset type of this class can be bought in {runs}; a unit reaching "
                     "max_age then could not be replaced (widen a buy_from/buy_until window or add a type)")
+
+
+def _size(chk: Checker, units: list[Unit]) -> None:
+    """The whole inventory holds at most UNITS_MAX units (counts included), so a plan fits in memory."""
+    total = sum(u.count for u in units)
+    if total > UNITS_MAX:
+        chk.bad("unit", f"the inventory holds {total:,} units (counts included): at most {UNITS_MAX:,} are allowed "
+                "in one case (split the fleet into cases by class)")
