@@ -25,7 +25,7 @@ def _study(chk: Checker, doc: Mapping) -> Study | None:
                       what="a rate per year > -1")
     if rate is not None and rate < 0 and horizon is not None:  # a negative rate makes late money weigh more
         chk.growth("study.discount_rate", 1 / (1 + rate) - 1, horizon + 100, "the discount factor over the horizon "
-                   "and the longest life")
+                   "and the longest life", shown=rate)
     end_value = chk.choice(s, "end_value", "study", END_VALUES, "salvage")
     if end_value == "continuing" and rate is not None and rate <= 0:
         chk.bad("study.discount_rate", f"= {rate!r}: end_value = 'continuing' needs a discount rate > 0 "

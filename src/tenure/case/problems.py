@@ -141,14 +141,18 @@ class Checker:
         return v
 
 
-    def growth(self, where: str, rate: float | None, years: int | None, what: str) -> None:
-        """Refuse a rate that compounds to more than :data:`GROWTH_MAX` (or less than its inverse) over ``years``."""
+    def growth(self, where: str, rate: float | None, years: int | None, what: str, shown=None) -> None:
+        """Refuse a rate that compounds to more than :data:`GROWTH_MAX` (or less than its inverse) over ``years``.
+
+        ``shown`` is the value the user wrote when ``rate`` is derived from it (a discount factor's rate).
+        """
         if rate is None or years is None or rate == 0:
             return
+        shown = rate if shown is None else shown
         factor = math.exp(years * math.log1p(rate))
         if not (1 / GROWTH_MAX <= factor <= GROWTH_MAX):
             worst = math.expm1(math.log(GROWTH_MAX if rate > 0 else 1 / GROWTH_MAX) / years)
-            self.bad(where, f"= {rate!r}: compounds to ×{factor:.3g} over {years} years ({what}); at most "
+            self.bad(where, f"= {shown!r}: compounds to ×{factor:.3g} over {years} years ({what}); at most "
                      f"×{GROWTH_MAX:g} is allowed, i.e. a rate {'≤' if rate > 0 else '≥'} {worst:.4g} for {years} years")
 
 
