@@ -10,19 +10,33 @@ checked and locked before any work, and always holds one complete set of one run
 
 from __future__ import annotations
 
-import argparse
-import contextlib
-import math
-import re
+import os
 import signal
 import sys
-from pathlib import Path
 
-from . import __version__, interrupts
-from .case import CaseError, load_case
-from .interrupts import Interrupted, run_interruptible, signals_deferred
-from .report import text
-from .report.files import OutputError, describe_os_error
+
+def _early_exit(signum, frame):  # pragma: no cover - exercised by tests/test_faults.py
+    os.write(2, f"tenure: interrupted by {signal.Signals(signum).name}; stopped, nothing written\n".encode())
+    os._exit(128 + signum)
+
+
+if os.path.basename(sys.argv[0] if sys.argv else "") in ("tenure", "cli.py"):
+    # run as the command: a signal during the imports below ends the run with one line, not a traceback
+    signal.signal(signal.SIGINT, _early_exit)
+    signal.signal(signal.SIGTERM, _early_exit)
+
+import argparse  # noqa: E402
+import contextlib  # noqa: E402
+import math  # noqa: E402
+import re  # noqa: E402
+import warnings  # noqa: E402
+from pathlib import Path  # noqa: E402
+
+from . import __version__, interrupts  # noqa: E402
+from .case import CaseError, load_case  # noqa: E402
+from .interrupts import Interrupted, run_interruptible, signals_deferred  # noqa: E402
+from .report import text  # noqa: E402
+from .report.files import OutputError, describe_os_error  # noqa: E402
 
 EXIT_BAD_INPUT = 2
 EXIT_INFEASIBLE = 3
@@ -339,7 +353,10 @@ def main(argv: list[str] | None = None) -> int:
     saved = {s: signal.getsignal(s) for s in (signal.SIGINT, signal.SIGTERM)}
     interrupts.install()
     try:
-        return _run(args)
+        with warnings.catch_warnings():
+            # the numeric limits keep every figure finite; a floating-point notice is never the user's business
+            warnings.filterwarnings("ignore", category=RuntimeWarning, message=".*(overflow|invalid value|divide)")
+            return _run(args)
     finally:
         with contextlib.suppress(ValueError):  # not the main thread: nothing was installed
             for s, handler in saved.items():
