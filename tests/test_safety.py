@@ -231,7 +231,8 @@ def test_files_of_an_older_tenure_are_adopted_without_a_mixed_instant(tmp_path, 
     (out / "report.html").write_text("old report")
     with OutputFolder(out, "plan"):  # adoption happens under the lock, before anything is rendered
         assert json.loads((out / "plan.json").read_text()) == {"old": True}
-        assert (out / "plan.json").is_symlink()
+        assert (out / "plan.json").is_symlink() and (out / "report.html").read_text() == "old report"
+        assert verify(out) == []  # the adopted set has its own manifest
     rid = _plan(out, capsys)
     assert json.loads((out / "plan.json").read_text())["run_id"] == rid and verify(out) == []
 

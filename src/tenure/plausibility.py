@@ -31,7 +31,7 @@ RATE_LOW, RATE_HIGH = 0.0, 0.20
 
 
 @dataclass(frozen=True)
-class Warning:  # noqa: A001 - the name the callers use; never raised, so it does not shadow a raise
+class Warning:  # noqa: A001 - a record, never raised or filtered; the name other commands import
     """One likely mistake: a short ``code``, ``where`` (a field path or file) and a ``message`` for the user."""
 
     code: str

@@ -183,9 +183,13 @@ class OutputFolder:
                 os.link(self.out / n, tmp / n)
             except OSError:
                 shutil.copy2(self.out / n, tmp / n)
+        files = [n for n in legacy if n != MANIFEST]
+        if MANIFEST in legacy:
+            (tmp / MANIFEST).unlink()
+        _write_manifest(tmp, files, {"run_id": sid, "command": "adopted from an older tenure"})
         os.rename(tmp, self.state / "sets" / sid)
         self._switch(sid)
-        for n in legacy:  # each rename swaps a file for a link to the same content
+        for n in files + [MANIFEST]:  # each rename swaps a file for a link to the same content
             self._link(n)
 
     # -- commit ---------------------------------------------------------------------------------------------
@@ -203,15 +207,7 @@ class OutputFolder:
             if q.is_dir() and not q.is_symlink():
                 raise OutputError(f"--out {self.out}: {q} is a folder; tenure writes a file of that name "
                                   "(move the folder away or choose another --out)")
-        entries = [{"name": n, "size": (self.staging / n).stat().st_size, "sha256": sha256_of(self.staging / n)}
-                   for n in names]
-        manifest = {"run_id": self.run_id, "command": self.command, **meta, "files": entries}
-        data = (json.dumps(manifest, indent=2, ensure_ascii=False) + "\n").encode("utf-8")
-        with open(self.staging / MANIFEST, "wb") as fh:
-            fh.write(data)
-            fh.flush()
-            os.fsync(fh.fileno())
-        _fsync_dir(self.staging)
+        _write_manifest(self.staging, names, {"run_id": self.run_id, "command": self.command, **meta})
         done = self.state / "sets" / self.run_id
         os.rename(self.staging, done)
         _fsync_dir(done.parent)
@@ -239,6 +235,17 @@ class OutputFolder:
         tmp = self.out / f".{name}.{self.run_id}.link"
         os.symlink(f"{STATE}/current/{name}", tmp)
         os.replace(tmp, self.out / name)
+
+
+def _write_manifest(folder: Path, names: list[str], head: dict) -> None:
+    """``folder/manifest.json``: ``head`` and each file's name, size and sha256; flushed with the folder."""
+    entries = [{"name": n, "size": (folder / n).stat().st_size, "sha256": sha256_of(folder / n)} for n in names]
+    data = (json.dumps({**head, "files": entries}, indent=2, ensure_ascii=False) + "\n").encode("utf-8")
+    with open(folder / MANIFEST, "wb") as fh:
+        fh.write(data)
+        fh.flush()
+        os.fsync(fh.fileno())
+    _fsync_dir(folder)
 
 
 def _is_ours(q: Path) -> bool:
