@@ -99,9 +99,14 @@ def _output(out: str | None, command: str, names: tuple[str, ...]):
     return OutputFolder(Path(out), command, names)
 
 
+_COMMITTED: list = []  # output sets switched in by this process (an interrupt after that says so)
+
+
 def _commit(tx, meta: dict) -> list[Path]:
     with signals_deferred():
-        return tx.commit(meta)
+        paths = tx.commit(meta)
+        _COMMITTED.append(tx.run_id)
+        return paths
 
 
 # ---------------------------------------------------------------------------
@@ -351,6 +356,7 @@ def main(argv: list[str] | None = None) -> int:
         parser.print_help()
         return EXIT_BAD_INPUT
     saved = {s: signal.getsignal(s) for s in (signal.SIGINT, signal.SIGTERM)}
+    _COMMITTED.clear()
     interrupts.install()
     try:
         with warnings.catch_warnings():
@@ -370,8 +376,9 @@ def _run(args) -> int:
     except (Interrupted, KeyboardInterrupt) as exc:
         code = exc.code if isinstance(exc, Interrupted) else 128 + signal.SIGINT
         name = signal.Signals(code - 128).name
-        print(f"tenure {args.command}: interrupted by {name}; stopped, nothing written "
-              "(the output folder keeps its earlier set)", file=sys.stderr)
+        done = (f"the outputs of run {_COMMITTED[-1]} had already been written whole" if _COMMITTED
+                else "nothing written (the output folder keeps its earlier set)")
+        print(f"tenure {args.command}: interrupted by {name}; stopped, {done}", file=sys.stderr)
         if interrupts.busy():
             interrupts.hard_exit(code)
         return code
