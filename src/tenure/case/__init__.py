@@ -101,7 +101,7 @@ def read_document(path: Path | str) -> dict[str, Any]:
 def file_problem(path: Path, what: str) -> str | None:
     """Why ``path`` cannot be read as a ``what`` (a folder is called a folder), or None."""
     if path.is_dir():
-        return f"is a folder, not a {what}"
+        return f"is a directory, not a {what}"
     if not path.exists():
         return f"no such {what}"
     if not path.is_file():
@@ -113,7 +113,7 @@ def _reason(exc: OSError) -> str:
     import errno
 
     return {errno.EACCES: "permission denied", errno.EPERM: "operation not permitted",
-            errno.EISDIR: "is a folder"}.get(exc.errno, exc.strerror or str(exc))
+            errno.EISDIR: "is a directory"}.get(exc.errno, exc.strerror or str(exc))
 
 
 def load_case(path: Path | str) -> Case:

@@ -19,7 +19,7 @@ def _csv_units(chk: Checker, fleet: Mapping, base_dir: Path) -> list[dict]:
         return []
     path = (base_dir / name) if not Path(name).is_absolute() else Path(name)
     if not path.is_file():
-        why = "is a folder" if path.is_dir() else "no such file" if not path.exists() else "is not a regular file"
+        why = "is a directory" if path.is_dir() else "no such file" if not path.exists() else "is not a regular file"
         chk.bad("fleet.file", f"= {name!r}: {why} ({path}); give a CSV path relative to the case file")
         return []
     rows: list[dict] = []

@@ -22,7 +22,7 @@ class OutputError(Exception):
 
 def describe_os_error(exc: OSError) -> str:
     """``path: reason`` of an OSError in words a user can act on (a folder is called a folder)."""
-    reasons = {errno.EISDIR: "is a folder, not a file", errno.ENOTDIR: "a part of the path is a file, not a folder",
+    reasons = {errno.EISDIR: "is a directory, not a file", errno.ENOTDIR: "a part of the path is a file, not a directory",
                errno.EACCES: "permission denied", errno.EPERM: "operation not permitted",
                errno.ENOSPC: "no space left on the device", errno.EROFS: "the file system is read-only",
                errno.ENOENT: "no such file or folder", errno.EDQUOT: "disk quota exceeded"}

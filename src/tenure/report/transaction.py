@@ -72,7 +72,7 @@ def check_out(out: Path, names: tuple[str, ...] = ()) -> None:
     for name in names:
         q = p / name
         if q.is_dir() and not q.is_symlink():
-            raise OutputError(f"--out {out}: {q} is a folder; tenure writes a file of that name "
+            raise OutputError(f"--out {out}: {q} is a directory; tenure writes a file of that name "
                               "(move the folder away or choose another --out)")
 
 
@@ -205,7 +205,7 @@ class OutputFolder:
         for n in names + [MANIFEST]:
             q = self.out / n
             if q.is_dir() and not q.is_symlink():
-                raise OutputError(f"--out {self.out}: {q} is a folder; tenure writes a file of that name "
+                raise OutputError(f"--out {self.out}: {q} is a directory; tenure writes a file of that name "
                                   "(move the folder away or choose another --out)")
         _write_manifest(self.staging, names, {"run_id": self.run_id, "command": self.command, **meta})
         done = self.state / "sets" / self.run_id
