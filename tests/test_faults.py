@@ -113,7 +113,8 @@ def campaign(tmp: Path, faults: int, seed: int) -> dict:
 def test_kills_at_random_instants_always_leave_one_complete_consistent_set(tmp_path):
     c = campaign(tmp_path, faults=5, seed=11)
     assert c["faults"] == 5 and c["problems"] == [] and c["consistent"] == 5 and c["tracebacks"] == 0
-    assert set(c["exit_codes"]) <= {0, 130, 143, -signal.SIGKILL}
+    # −SIGINT/−SIGTERM: the signal came while Python itself was starting, before tenure ran (nothing written)
+    assert set(c["exit_codes"]) <= {0, 130, 143, -signal.SIGKILL, -signal.SIGINT, -signal.SIGTERM}
     # the next run cleans what the killed ones left: one set, no staging folder
     p = _start(tmp_path / "out")
     assert p.wait(timeout=120) == 0

@@ -46,7 +46,7 @@ def _limits(chk: Checker, doc: Mapping, classes: set[str]) -> list[Limit]:
         p = f"limit[{j}]"
         chk.keys(b, LIMIT_KEYS, p)
         cls = chk.string(b, "class", p)
-        n = chk.integer(b, "max_buys_per_year", p, lo=0, hi=UNITS_MAX, what="a whole number ≥ 0")
+        n = chk.integer(b, "max_buys_per_year", p, lo=0, what="a whole number ≥ 0")
         if cls is not None:
             if classes and cls not in classes:
                 near = difflib.get_close_matches(cls, sorted(classes), n=1, cutoff=0.5)
