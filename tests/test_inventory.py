@@ -273,7 +273,7 @@ def test_overdue_units_are_sold_at_the_start_with_one_warning_line_per_type(tmp_
     assert "3 units of van past max age 6 (ages 7–8: V1, V2#1, V2#2)" in lines[0]
     assert "1 unit of cart past max age 4 (age 5: C1)" in lines[1]
     code, out, _ = _run(["check", str(path)], capsys)
-    assert code == 0 and [ln for ln in out.splitlines() if ln.startswith("warning:")] == lines
+    assert code == 0 and [ln for ln in out.splitlines() if ln.startswith("warning: overdue")] == lines
     plan = solve(case)
     by = {u.unit: u for u in plan.units}
     van, cart = case.type("van"), case.type("cart")

@@ -1,24 +1,51 @@
 """Command line: ``tenure check | life | fit | plan | policy | compare | sweep``.
 
-Exit codes: 0 done; 2 bad input (every problem printed, no traceback);
-3 no plan fits the caps (the shortfall is printed and written).
+Exit codes: 0 done; 2 bad input or an output that cannot be written (every problem printed, no traceback);
+3 no plan fits the caps (the shortfall is printed and written); 130 / 143 interrupted by SIGINT / SIGTERM
+(nothing written, earlier outputs unchanged).
+
+Commands that write files write them as one transaction (``report.transaction``): the output folder is
+checked and locked before any work, and always holds one complete set of one run.
 """
 
 from __future__ import annotations
 
-import argparse
-import json
+import os
+import signal
 import sys
-from pathlib import Path
 
-from . import __version__, api
-from .case import CaseError
-from .plan import NoPlanError
-from .report import taxnote, text
-from .textutil import did_you_mean
+
+def _early_exit(signum, frame):  # pragma: no cover - exercised by tests/test_faults.py
+    os.write(2, f"tenure: interrupted by {signal.Signals(signum).name}; stopped, nothing written\n".encode())
+    os._exit(128 + signum)
+
+
+if os.path.basename(sys.argv[0] if sys.argv else "") in ("tenure", "cli.py"):
+    # run as the command: a signal during the imports below ends the run with one line, not a traceback
+    signal.signal(signal.SIGINT, _early_exit)
+    signal.signal(signal.SIGTERM, _early_exit)
+
+import argparse  # noqa: E402
+import contextlib  # noqa: E402
+import json  # noqa: E402
+import math  # noqa: E402
+import re  # noqa: E402
+import warnings  # noqa: E402
+from pathlib import Path  # noqa: E402
+
+from . import __version__, api, interrupts  # noqa: E402
+from .case import CaseError  # noqa: E402
+from .interrupts import Interrupted, run_interruptible, signals_deferred  # noqa: E402
+from .plan import NoPlanError  # noqa: E402
+from .report import taxnote, text  # noqa: E402
+from .report.files import OutputError, describe_os_error  # noqa: E402
+from .textutil import did_you_mean  # noqa: E402
 
 EXIT_BAD_INPUT = 2
 EXIT_INFEASIBLE = 3
+PLAN_NAMES = ("plan.json", "units.csv", "years.csv", "buy-list.csv", "report.html", "plan.xlsx")
+COMPARE_NAMES = ("compare.json", "compare.csv", "report.html")
+SWEEP_NAMES = ("sweep.json", "sweep.csv", "sensitivity.csv")
 
 
 class UsageError(Exception):
@@ -33,11 +60,73 @@ def _near(value: str, allowed: list[str]) -> str:
     return did_you_mean(value, allowed)
 
 
+def _warn_block(case) -> list:
+    from .plausibility import case_warnings
+
+    found = case_warnings(case)
+    if found:
+        print()
+        for w in found:
+            print(f"warning: {w}")
+    return found
+
+
+def _warn(case) -> list:
+    """Print the plausibility warnings of a case (stdout: they are findings, not failures); returns them."""
+    from .plausibility import case_warnings
+
+    found = case_warnings(case)
+    for w in found:
+        print(f"warning: {w}")
+    return found
+
+
+def _seconds(value: float) -> float:
+    if not (math.isfinite(value) and 0 < value <= 1e6):
+        raise UsageError(f"--time-limit {value!r}: must be a number of seconds in (0, 1e6], e.g. 120")
+    return value
+
+
+_CLUSTER = re.compile(r"^(?:(?:tcp|tls|inproc|ucx|ws|wss)://)?[A-Za-z0-9_.\-\[\]:]+:\d{1,5}$")
+
+
+def _cluster(address: str | None) -> str | None:
+    if address is not None and not _CLUSTER.match(address):
+        raise UsageError(f"--cluster {address!r}: not a scheduler address; give e.g. tcp://scheduler-host:8786")
+    return address
+
+
+def _output(out: str | None, command: str, names: tuple[str, ...]):
+    """The output transaction of ``--out`` (checked and locked now), or a no-op when nothing is written."""
+    if out is None:
+        return contextlib.nullcontext(None)
+    from .report.transaction import OutputFolder, check_out
+
+    check_out(Path(out), names)
+    return OutputFolder(Path(out), command, names)
+
+
+_COMMITTED: list = []  # output sets switched in by this process (an interrupt after that says so)
+
+
+def _commit(tx, meta: dict) -> list[Path]:
+    with signals_deferred():
+        paths = tx.commit(meta)
+        _COMMITTED.append(tx.run_id)
+        return paths
+
+
 # ---------------------------------------------------------------------------
 def cmd_check(args) -> int:
+    from .checkall import check_everything
+
     case = _case(args.case)
+    check_everything(case)
     print(text.case_summary(case))
-    print("\ncase is valid.")
+    if _warn_block(case):
+        print("\ncase is valid (the warnings above do not stop a run).")
+    else:
+        print("\ncase is valid.")
     return 0
 
 
@@ -59,7 +148,9 @@ def cmd_life(args) -> int:
     tables = api.life_tables(case, args.type, year, args.tolerance)
     if args.json:
         payload = tables[0].to_dict() if len(tables) == 1 else [lt.to_dict() for lt in tables]
-        print(json.dumps(payload, indent=2))
+        from .report.files import dumps
+
+        print(dumps(payload))
         return 0
     for j, lt in enumerate(tables):
         t = case.type(lt.type)
@@ -133,22 +224,28 @@ def _life_compare_tax(case, chosen, year, args) -> int:
 
 
 def cmd_plan(args) -> int:
+    from .report import documents
     from .report.tables import write_plan
 
-    case = _case(args.case)
-    if args.time_limit <= 0:
-        raise UsageError(f"--time-limit {args.time_limit!r}: must be a number of seconds > 0")
+    _seconds(args.time_limit)
     if not (0 <= args.gap < 1):
         raise UsageError(f"--gap {args.gap!r}: must be a fraction in [0, 1), e.g. 0.005")
-    by = _by_column(case, args.by)
     if args.list_years < 1:
         raise UsageError(f"--list-years {args.list_years!r}: must be a whole number of planning years ≥ 1")
-    plan = api.solve(case, solver=args.solver, time_limit=args.time_limit, gap=args.gap, progress=not args.quiet)
-    out = Path(args.out)
+    output = _output(args.out, "plan", PLAN_NAMES)
+    case = _case(args.case)
+    by = _by_column(case, args.by)
     group = by if by is not None else case.group_by
-    written = [p.name for p in write_plan(plan, out, list_years=args.list_years, group_by=group)]
-    written += _extra_writers(plan, case, out, list_years=args.list_years, by=by, progress=not args.quiet)
-    print(text.plan_summary(plan, case, str(out), written))
+    warnings = _warn(case)
+    with output as tx:
+        plan = run_interruptible(api.solve, case, solver=args.solver, time_limit=args.time_limit, gap=args.gap,
+                                 progress=not args.quiet)
+        write_plan(plan, tx.staging, run_id=tx.run_id, list_years=args.list_years, group_by=group)
+        documents.write_all(plan, case, tx.staging, run_id=tx.run_id, warnings=warnings, list_years=args.list_years,
+                            by=by, progress=not args.quiet)
+        written = _commit(tx, {"case": case.source, "status": plan.status})
+    print(text.plan_summary(plan, case, str(args.out), [p.name for p in written]))
+    print(f"run id {tx.run_id}")
     return EXIT_INFEASIBLE if plan.status in ("infeasible", "unsolved") else 0
 
 
@@ -163,14 +260,6 @@ def _by_column(case, by: str | None) -> str | None:
         raise UsageError(f"--by {by!r}: not a kept column of the inventory{_near(header_key(by), kept)} "
                          f"(kept columns: {', '.join(kept) if kept else 'none'})")
     return header_key(by)
-
-
-def _extra_writers(plan, case, out: Path, **options) -> list[str]:
-    """Human-facing files (report, spreadsheet); returns their names."""
-    from .report import documents
-
-    paths = documents.write_all(plan, case, out, **options) or []
-    return [Path(p).name for p in paths]
 
 
 def cmd_policy(args) -> int:
@@ -215,6 +304,9 @@ def cmd_compare(args) -> int:
     from .parallel import ClusterError
     from .report import compare as report_compare
 
+    _seconds(args.time_limit)
+    _cluster(args.cluster)
+    output = _output(args.out, "compare", COMPARE_NAMES)
     case = _case(args.case)
     extra = sc.read_scenario_file(args.scenarios, case)[0] if args.scenarios else []
     wanted = [w.strip() for item in (args.scenario or []) for w in item.split(",") if w.strip()]
@@ -226,15 +318,18 @@ def cmd_compare(args) -> int:
     if not chosen:
         raise UsageError(f"nothing to compare: {case.source} has no [[scenario]] blocks (add some or give "
                          "--scenarios FILE)" if not wanted else "nothing to compare: name a scenario other than base")
-    try:
-        doc = sc.compare(case, chosen, options=options, workers=args.workers, cluster=args.cluster,
-                         progress=not args.quiet)
-    except ClusterError as exc:
-        raise UsageError(f"--cluster {args.cluster}: {exc}") from None
+    with output as tx:
+        try:
+            doc = run_interruptible(sc.compare, case, chosen, options=options, workers=args.workers,
+                                    cluster=args.cluster, progress=not args.quiet)
+        except ClusterError as exc:
+            raise UsageError(f"--cluster {args.cluster}: {exc}") from None
+        if tx is not None:
+            report_compare.write_compare(doc, case, tx.staging, run_id=tx.run_id)
+            paths = _commit(tx, {"case": case.source})
     print(report_compare.compare_text(doc))
-    if args.out:
-        paths = report_compare.write_compare(doc, case, args.out)
-        print(f"\nwritten to {args.out}/: " + ", ".join(Path(p).name for p in paths))
+    if tx is not None:
+        print(f"\nwritten to {args.out}/: " + ", ".join(p.name for p in paths) + f" (run id {tx.run_id})")
     print(text.CAUTION)
     return EXIT_INFEASIBLE if doc.base.status == "infeasible" else 0
 
@@ -244,6 +339,9 @@ def cmd_sweep(args) -> int:
     from .parallel import ClusterError
     from .report import sweep as report_sweep
 
+    _seconds(args.time_limit)
+    _cluster(args.cluster)
+    output = _output(args.out, "sweep", SWEEP_NAMES)
     case = _case(args.case)
     try:
         options = run_options(args.solver, args.time_limit, args.gap, args.workers)
@@ -258,18 +356,22 @@ def cmd_sweep(args) -> int:
     uncertain = list(case.uncertain)
     if args.scenarios:
         uncertain += sc.read_scenario_file(args.scenarios, case)[1]
-    try:
-        axes = [parse_vary(v) for v in args.vary or []]
-        doc = sc.sweep(case, axes=axes, samples=args.samples, seed=args.seed, uncertain=uncertain,
-                       options=options, workers=args.workers, cluster=args.cluster, progress=not args.quiet)
-    except ValueError as exc:
-        raise UsageError(str(exc)) from None
-    except ClusterError as exc:
-        raise UsageError(f"--cluster {args.cluster}: {exc}") from None
+    with output as tx:
+        try:
+            axes = [parse_vary(v) for v in args.vary or []]
+            doc = run_interruptible(sc.sweep, case, axes=axes, samples=args.samples, seed=args.seed,
+                                    uncertain=uncertain, options=options, workers=args.workers,
+                                    cluster=args.cluster, progress=not args.quiet)
+        except ValueError as exc:
+            raise UsageError(str(exc)) from None
+        except ClusterError as exc:
+            raise UsageError(f"--cluster {args.cluster}: {exc}") from None
+        if tx is not None:
+            report_sweep.write_sweep(doc, tx.staging, run_id=tx.run_id)
+            paths = _commit(tx, {"case": case.source})
     print(report_sweep.sweep_text(doc))
-    if args.out:
-        paths = report_sweep.write_sweep(doc, args.out)
-        print(f"\nwritten to {args.out}/: " + ", ".join(Path(p).name for p in paths))
+    if tx is not None:
+        print(f"\nwritten to {args.out}/: " + ", ".join(p.name for p in paths) + f" (run id {tx.run_id})")
     print(text.CAUTION)
     return 0
 
@@ -367,8 +469,33 @@ def main(argv: list[str] | None = None) -> int:
     if not getattr(args, "func", None):
         parser.print_help()
         return EXIT_BAD_INPUT
+    saved = {s: signal.getsignal(s) for s in (signal.SIGINT, signal.SIGTERM)}
+    _COMMITTED.clear()
+    interrupts.install()
+    try:
+        with warnings.catch_warnings():
+            # the numeric limits keep every figure finite; a floating-point notice is never the user's business
+            warnings.filterwarnings("ignore", category=RuntimeWarning, message=".*(overflow|invalid value|divide)")
+            return _run(args)
+    finally:
+        with contextlib.suppress(ValueError):  # not the main thread: nothing was installed
+            for s, handler in saved.items():
+                signal.signal(s, handler)
+
+
+def _run(args) -> int:
+    """Run the command; every failure becomes one message and an exit code, never a traceback."""
     try:
         return int(args.func(args) or 0)
+    except (Interrupted, KeyboardInterrupt) as exc:
+        code = exc.code if isinstance(exc, Interrupted) else 128 + signal.SIGINT
+        name = signal.Signals(code - 128).name
+        done = (f"the outputs of run {_COMMITTED[-1]} had already been written whole" if _COMMITTED
+                else "nothing written (the output folder keeps its earlier set)")
+        print(f"tenure {args.command}: interrupted by {name}; stopped, {done}", file=sys.stderr)
+        if interrupts.busy():
+            interrupts.hard_exit(code)
+        return code
     except CaseError as exc:
         print(f"tenure {args.command}: the case has {len(exc.problems)} problem(s):", file=sys.stderr)
         for prob in exc.problems:
@@ -382,6 +509,16 @@ def main(argv: list[str] | None = None) -> int:
         return EXIT_INFEASIBLE
     except BrokenPipeError:  # e.g. piped into `head`
         return 0
+    except OutputError as exc:
+        print(f"tenure {args.command}: cannot write the outputs: {exc}", file=sys.stderr)
+        return EXIT_BAD_INPUT
+    except OSError as exc:
+        print(f"tenure {args.command}: {describe_os_error(exc)}", file=sys.stderr)
+        return EXIT_BAD_INPUT
+    except MemoryError:
+        print(f"tenure {args.command}: out of memory; the case is too large for this machine "
+              "(see the size limits in docs/case-format.md)", file=sys.stderr)
+        return EXIT_BAD_INPUT
 
 
 if __name__ == "__main__":  # pragma: no cover

@@ -23,7 +23,7 @@ from .inventory import _units, group_by, inline
 from .keys import (BUDGET_KEYS, CSV_COLUMNS, CSV_OPTIONAL, DISTRIBUTIONS, FLEET_KEYS, FORMAT_VERSION, LIMIT_KEYS,
                    SCENARIO_KEYS, STUDY_KEYS, TOP_KEYS, TYPE_KEYS, UNCERTAIN_KEYS, UNIT_KEYS)
 from .problems import CaseError, Checker, Problem, blocks
-from .rules import _budget, _coverage, _limits
+from .rules import _budget, _coverage, _limits, _size
 from .taxes import _tax_coverage
 from .variants import _scenarios, _uncertain
 
@@ -59,6 +59,7 @@ def build_case(doc: Mapping[str, Any], *, source: str = "<memory>", base_dir: Pa
     by_id = {t.id: t for t in types}
     all_ids = {b.get("id") for b in blocks(Checker(source), doc, "asset_type") if isinstance(b.get("id"), str)}
     units = _units(chk, doc, by_id, all_ids, base_dir, study.start_year if study is not None else None)
+    _size(chk, units)
     budget = _budget(chk, doc, study)
     classes = {t.class_ for t in types} | {b.get("class") for b in blocks(Checker(source), doc, "asset_type")
                                            if isinstance(b.get("class"), str)}
@@ -66,8 +67,9 @@ def build_case(doc: Mapping[str, Any], *, source: str = "<memory>", base_dir: Pa
     scenarios = _scenarios(chk, doc)
     uncertain = _uncertain(chk, doc)
     _tax_coverage(chk, doc, study.tax_rate if study is not None else None)
-    if study is not None and not chk.problems:
-        _coverage(chk, study, types, units)
+    if study is not None:  # reported with the other problems; classes with an invalid type are left out
+        half_read = {b.get("class") for b in blocks(Checker(source), doc, "asset_type") if b.get("id") not in by_id}
+        _coverage(chk, study, types, units, skip=half_read)
     if chk.problems:
         raise CaseError(chk.problems)
     raw = copy.deepcopy(dict(doc))
@@ -82,17 +84,41 @@ def build_case(doc: Mapping[str, Any], *, source: str = "<memory>", base_dir: Pa
 
 
 def read_document(path: Path | str) -> dict[str, Any]:
-    """Parse a TOML case file; a syntax error becomes a :class:`CaseError`."""
+    """Parse a TOML case file (a UTF-8 byte-order mark is accepted); any failure becomes a :class:`CaseError`."""
     path = Path(path)
-    if not path.is_file():
-        raise CaseError([Problem(str(path), "file", "no such case file")])
+    problem = file_problem(path, "case file")
+    if problem:
+        raise CaseError([Problem(str(path), "file", problem)])
     try:
-        with path.open("rb") as fh:
-            return tomllib.load(fh)
-    except tomllib.TOMLDecodeError as exc:
-        raise CaseError([Problem(str(path), "syntax", f"not valid TOML: {exc}")]) from None
+        data = path.read_bytes()
+    except OSError as exc:
+        raise CaseError([Problem(str(path), "file", f"cannot be read: {_reason(exc)}")]) from None
+    try:
+        text = data.decode("utf-8-sig")
     except UnicodeDecodeError as exc:
         raise CaseError([Problem(str(path), "file", f"not UTF-8 text: {exc}")]) from None
+    try:
+        return tomllib.loads(text)
+    except tomllib.TOMLDecodeError as exc:
+        raise CaseError([Problem(str(path), "syntax", f"not valid TOML: {exc}")]) from None
+
+
+def file_problem(path: Path, what: str) -> str | None:
+    """Why ``path`` cannot be read as a ``what`` (a folder is called a folder), or None."""
+    if path.is_dir():
+        return f"is a directory, not a {what}"
+    if not path.exists():
+        return f"no such {what}"
+    if not path.is_file():
+        return f"is not a regular file (a device, pipe or socket), not a {what}"
+    return None
+
+
+def _reason(exc: OSError) -> str:
+    import errno
+
+    return {errno.EACCES: "permission denied", errno.EPERM: "operation not permitted",
+            errno.EISDIR: "is a directory"}.get(exc.errno, exc.strerror or str(exc))
 
 
 def load_case(path: Path | str) -> Case:

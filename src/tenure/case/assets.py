@@ -6,7 +6,7 @@ from typing import Any, Mapping
 
 from ..model import END_VALUES, AssetType, OMCurve, Study, ValueCurve
 from .keys import STUDY_KEYS, TYPE_KEYS
-from .problems import Checker, blocks
+from .problems import MONEY_MAX, RATE_MAX, RATE_MIN, Checker, blocks
 from .taxes import _depreciation, _tax_rate
 
 
@@ -22,7 +22,11 @@ def _study(chk: Checker, doc: Mapping) -> Study | None:
     title = chk.string(s, "title", "study", required=False, default="") or ""
     start = chk.integer(s, "start_year", "study", lo=1900, hi=2300, what="a calendar year")
     horizon = chk.integer(s, "horizon", "study", lo=1, hi=200, what="a whole number of years")
-    rate = chk.number(s, "discount_rate", "study", lo=-1, lo_open=True, what="a rate per year")
+    rate = chk.number(s, "discount_rate", "study", lo=RATE_MIN, hi=RATE_MAX, lo_open=True, hi_open=True,
+                      what="a rate per year > -1")
+    if rate is not None and rate < 0 and horizon is not None:  # a negative rate makes late money weigh more
+        chk.growth("study.discount_rate", 1 / (1 + rate) - 1, horizon + 100, "the discount factor over the horizon "
+                   "and the longest life", shown=rate)
     end_value = chk.choice(s, "end_value", "study", END_VALUES, "salvage")
     if end_value == "continuing" and rate is not None and rate <= 0:
         chk.bad("study.discount_rate", f"= {rate!r}: end_value = 'continuing' needs a discount rate > 0 "
@@ -36,7 +40,8 @@ def _study(chk: Checker, doc: Mapping) -> Study | None:
 
 def _om_curve(chk: Checker, v: Any, path: str) -> OMCurve | None:
     if isinstance(v, list):
-        vals = [chk.number_value(x, f"{path}[{j + 1}]", lo=0, what="money ≥ 0") for j, x in enumerate(v)]
+        vals = [chk.number_value(x, f"{path}[{j + 1}]", lo=0, hi=MONEY_MAX, what="money ≥ 0")
+                for j, x in enumerate(v)]
         if not vals:
             chk.bad(path, "= []: an O&M list needs one figure per age 1 … max_age")
             return None
@@ -47,16 +52,18 @@ def _om_curve(chk: Checker, v: Any, path: str) -> OMCurve | None:
     if t is None:
         return None
     chk.keys(t, ("first", "gradient", "growth"), path)
-    first = chk.number(t, "first", path, lo=0, what="money ≥ 0")
+    first = chk.number(t, "first", path, lo=0, hi=MONEY_MAX, what="money ≥ 0")
     if "gradient" in t and "growth" in t:
         chk.bad(path, "give either 'gradient' (arithmetic) or 'growth' (geometric), not both")
         return None
     if "growth" in t:
-        g = chk.number(t, "growth", path, lo=-1, lo_open=True, what="a rate per year")
+        g = chk.number(t, "growth", path, lo=RATE_MIN, hi=RATE_MAX, lo_open=True, hi_open=True,
+                       what="a rate per year > -1")
         if first is None or g is None:
             return None
         return OMCurve(kind="growth", first=first, growth=g)
-    grad = chk.number(t, "gradient", path, required=False, default=0.0, what="money per year")
+    grad = chk.number(t, "gradient", path, required=False, default=0.0, lo=-MONEY_MAX, hi=MONEY_MAX,
+                      what="money per year")
     if first is None or grad is None:
         return None
     return OMCurve(kind="gradient", first=first, gradient=grad)
@@ -64,7 +71,8 @@ def _om_curve(chk: Checker, v: Any, path: str) -> OMCurve | None:
 
 def _value_curve(chk: Checker, v: Any, path: str) -> ValueCurve | None:
     if isinstance(v, list):
-        vals = [chk.number_value(x, f"{path}[{j + 1}]", lo=0, what="money ≥ 0") for j, x in enumerate(v)]
+        vals = [chk.number_value(x, f"{path}[{j + 1}]", lo=0, hi=MONEY_MAX, what="money ≥ 0")
+                for j, x in enumerate(v)]
         if not vals:
             chk.bad(path, "= []: a market-value list needs at least the value at age 1")
             return None
@@ -82,7 +90,7 @@ def _value_curve(chk: Checker, v: Any, path: str) -> ValueCurve | None:
         r = chk.number(t, "retain", path, lo=0, hi=1, lo_open=True, what="a fraction kept per year")
         return None if r is None else ValueCurve(kind="retain", retain=r)
     if "life" in t or "floor" in t:
-        life = chk.number(t, "life", path, lo=0, lo_open=True, what="a number of years")
+        life = chk.number(t, "life", path, lo=0, hi=200, lo_open=True, what="a number of years")
         floor = chk.number(t, "floor", path, required=False, default=0.0, lo=0, hi=1, hi_open=True,
                            what="a fraction of the price")
         if life is None or floor is None:
@@ -94,6 +102,18 @@ def _value_curve(chk: Checker, v: Any, path: str) -> ValueCurve | None:
 
 def _year(chk: Checker, t: Mapping, key: str, path: str) -> int | None:
     return chk.integer(t, key, path, required=False, default=None, lo=1900, hi=2300, what="a calendar year")
+
+
+def _growth_checks(chk: Checker, doc: Mapping, p: str, price_change, om_change, om, max_age) -> None:
+    """Compounding rates must not multiply a price or O&M figure by more than GROWTH_MAX within the study."""
+    study = doc.get("study") if isinstance(doc.get("study"), dict) else {}
+    h = study.get("horizon")
+    h = h if isinstance(h, int) and not isinstance(h, bool) and 1 <= h <= 200 else None
+    span = None if h is None or max_age is None else h + max_age  # purchase years and the ages after them
+    chk.growth(f"{p}.price_change", price_change, span, "the price over the horizon and one life")
+    chk.growth(f"{p}.om_change", om_change, span, "O&M by vintage over the horizon and one life")
+    if om is not None and om.kind == "growth" and max_age is not None:
+        chk.growth(f"{p}.om.growth", om.growth, max(max_age - 1, 1), "O&M from age 1 to max_age")
 
 
 def _asset_types(chk: Checker, doc: Mapping) -> list[AssetType]:
@@ -111,11 +131,11 @@ def _asset_types(chk: Checker, doc: Mapping) -> list[AssetType]:
                 chk.bad(f"{p}.id", f"= {tid!r}: duplicate id (also asset_type[{seen[tid]}]); ids must be unique")
             seen.setdefault(tid, j)
         cls = chk.string(b, "class", p)
-        price = chk.number(b, "price", p, lo=0, lo_open=True, what="money > 0")
-        price_change = chk.number(b, "price_change", p, required=False, default=0.0, lo=-1, lo_open=True,
-                                  what="a rate per year")
-        om_change = chk.number(b, "om_change", p, required=False, default=0.0, lo=-1, lo_open=True,
-                               what="a rate per year")
+        price = chk.number(b, "price", p, lo=0, hi=MONEY_MAX, lo_open=True, what="money > 0")
+        price_change = chk.number(b, "price_change", p, required=False, default=0.0, lo=RATE_MIN, hi=RATE_MAX,
+                                  lo_open=True, hi_open=True, what="a rate per year > -1")
+        om_change = chk.number(b, "om_change", p, required=False, default=0.0, lo=RATE_MIN, hi=RATE_MAX,
+                               lo_open=True, hi_open=True, what="a rate per year > -1")
         buy_from = _year(chk, b, "buy_from", p)
         buy_until = _year(chk, b, "buy_until", p)
         if buy_from is not None and buy_until is not None and buy_from > buy_until:
@@ -136,6 +156,7 @@ def _asset_types(chk: Checker, doc: Mapping) -> list[AssetType]:
                 chk.bad(f"{p}.om", f"has {len(om.table)} figures: an O&M list needs one per age 1 … max_age = {max_age}")
             if om.kind == "gradient" and om.first + om.gradient * (max_age - 1) < 0:
                 chk.bad(f"{p}.om.gradient", f"= {om.gradient:g}: O&M would fall below zero before age max_age = {max_age}")
+        _growth_checks(chk, doc, p, price_change, om_change, om, max_age)
         if "salvage" not in b:
             chk.bad(f"{p}.salvage", "missing: { retain = r }, { life = n, floor = f } or a list by age 1 … n")
             sv = None

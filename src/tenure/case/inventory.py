@@ -18,7 +18,7 @@ from typing import Any, Callable, Mapping
 from ..model import AssetType, Unit
 from ..tabular import Table, TableError, header_key, read_table
 from .keys import AGE_COLUMNS, CSV_OPTIONAL, FLEET_KEYS, RESERVED_COLUMNS, UNIT_KEYS, UNIT_MORE_KEYS
-from .problems import Checker, Problem, blocks
+from .problems import UNITS_MAX, Checker, Problem, blocks
 
 #: what the header must hold, in the words of the messages
 COLUMNS_TEXT = ("columns are id,type,age[,count] (in_service or model_year may replace age; any other column is "
@@ -120,13 +120,17 @@ def _table_rows(chk: Checker, fleet: Mapping, base_dir: Path) -> list[tuple[dict
         return []
     path = (base_dir / name) if not Path(name).is_absolute() else Path(name)
     if not path.is_file():
-        chk.bad("fleet.file", f"= {name!r}: no such file ({path}); give a CSV or .xlsx path relative to the case file")
+        why = "is a directory" if path.is_dir() else "no such file" if not path.exists() else "is not a regular file"
+        chk.bad("fleet.file", f"= {name!r}: {why} ({path}); give a CSV or .xlsx path relative to the case file")
         return []
     try:
         table = read_table(path, sheet)
     except TableError as exc:
         path_key = "fleet.sheet" if exc.where == "sheet" else exc.where
         chk.problems.append(Problem(chk.file if exc.where == "sheet" else exc.file, path_key, exc.message))
+        return []
+    except OSError as exc:  # unreadable (permissions, a device): a message, never a traceback
+        chk.problems.append(Problem(str(path), "file", f"cannot be read: {exc.strerror or exc}"))
         return []
     sub = Checker(table.file)
     if not _header_ok(sub, table):
@@ -242,7 +246,7 @@ def _unit(sub: Checker, row: Mapping, where, types, type_ids, start_year) -> Uni
     age = _age(sub, row, where, start_year)
     count = 1
     if row.get("count", "") != "":
-        count = sub.integer_value(row["count"], where("count"), lo=1, what="a whole number ≥ 1")
+        count = sub.integer_value(row["count"], where("count"), lo=1, hi=UNITS_MAX, what="a whole number ≥ 1")
     if tid is not None and tid not in type_ids:
         near = difflib.get_close_matches(tid, sorted(type_ids), n=1, cutoff=0.5)
         hint = f"; did you mean '{near[0]}'?" if near else ""

@@ -14,6 +14,16 @@ from dataclasses import dataclass
 from typing import Any, Mapping
 
 
+#: the sane ranges of numeric inputs (docs/case-format.md, "Limits"): inside them no finite input can
+#: overflow the arithmetic, and every derived money figure stays far below the 1e20 a solver takes as infinite
+MONEY_MAX = 1e12        # money per unit: a price, an O&M figure, a market value
+CAP_MAX = 1e17          # money per year of the whole fleet (MONEY_MAX × 100,000)
+RATE_MIN, RATE_MAX = -1.0, 1.0  # open interval of a discount rate, price or O&M change per year
+GROWTH_MAX = 1e3        # the most any compounding (price_change, om_change, growth, a negative discount rate)
+#                         may multiply a figure by over the study
+UNITS_MAX = 200_000     # units in the whole inventory (count included)
+
+
 @dataclass(frozen=True)
 class Problem:
     """One thing wrong with a case: where, what was found, what is allowed."""
@@ -90,12 +100,16 @@ class Checker:
 
     def number_value(self, v: Any, where: str, *, lo=None, hi=None, lo_open=False, hi_open=False, what="a number"):
         if isinstance(v, bool) or not isinstance(v, (int, float)) or not math.isfinite(v):
-            self.bad(where, f"= {v!r}: must be {_allowed(what, lo, hi, lo_open, hi_open)}")
+            self.bad(where, f"= {v!r}: must be {_allowed(what, lo, hi, lo_open, hi_open, True)}")
+            return None
+        if lo is not None and (v < lo or (lo_open and v == lo)) and _BOUND_SUFFIX.search(what):
+            # below the bound written in ``what``: that bound is the one to state
+            self.bad(where, f"= {v!r}: must be {_allowed(what, lo, None, lo_open, False)}")
             return None
         if (lo is not None and (v < lo or (lo_open and v == lo))) or (
             hi is not None and (v > hi or (hi_open and v == hi))
         ):
-            self.bad(where, f"= {v!r}: must be {_allowed(what, lo, hi, lo_open, hi_open)}")
+            self.bad(where, f"= {v!r}: must be {_allowed(what, lo, hi, lo_open, hi_open, True)}")
             return None
         return float(v)
 
@@ -127,23 +141,45 @@ class Checker:
         return v
 
 
+    def growth(self, where: str, rate: float | None, years: int | None, what: str, shown=None) -> None:
+        """Refuse a rate that compounds to more than :data:`GROWTH_MAX` (or less than its inverse) over ``years``.
+
+        ``shown`` is the value the user wrote when ``rate`` is derived from it (a discount factor's rate).
+        """
+        if rate is None or years is None or rate == 0:
+            return
+        shown = rate if shown is None else shown
+        factor = math.exp(years * math.log1p(rate))
+        if not (1 / GROWTH_MAX <= factor <= GROWTH_MAX):
+            worst = math.expm1(math.log(GROWTH_MAX if rate > 0 else 1 / GROWTH_MAX) / years)
+            self.bad(where, f"= {shown!r}: compounds to ×{factor:.3g} over {years} years ({what}); at most "
+                     f"×{GROWTH_MAX:g} is allowed, i.e. a rate {'≤' if rate > 0 else '≥'} {worst:.4g} for {years} years")
+
+
 _BOUND_SUFFIX = re.compile(r"\s*[≥>≤<]\s*-?[0-9.]+$")
 
 
-def _allowed(what: str, lo, hi, lo_open, hi_open) -> str:
-    """``what`` with the allowed range; a bound already written in ``what`` ("money ≥ 0") is not repeated."""
+def _allowed(what: str, lo, hi, lo_open, hi_open, keep_lower: bool = False) -> str:
+    """``what`` with the allowed range; a lower bound already written in ``what`` ("money ≥ 0") is kept and
+    the upper bound added to it ("money ≥ 0 and ≤ 1e12")."""
+    if keep_lower and _BOUND_SUFFIX.search(what) and hi is not None and lo is not None:
+        return f"{what} and {'<' if hi_open else '≤'} {_num(hi)}"
     rng = _range_text(lo, hi, lo_open, hi_open)
     return _BOUND_SUFFIX.sub("", what) + rng if rng else what
+
+
+def _num(x) -> str:
+    return f"{x:g}".replace("e+", "e")
 
 
 def _range_text(lo, hi, lo_open, hi_open) -> str:
     if lo is None and hi is None:
         return ""
     if hi is None:
-        return f" {'>' if lo_open else '≥'} {lo:g}"
+        return f" {'>' if lo_open else '≥'} {_num(lo)}"
     if lo is None:
-        return f" {'<' if hi_open else '≤'} {hi:g}"
-    return f" in {'(' if lo_open else '['}{lo:g}, {hi:g}{')' if hi_open else ']'}"
+        return f" {'<' if hi_open else '≤'} {_num(hi)}"
+    return f" in {'(' if lo_open else '['}{_num(lo)}, {_num(hi)}{')' if hi_open else ']'}"
 
 
 def blocks(chk: Checker, doc: Mapping, key: str) -> list[dict]:

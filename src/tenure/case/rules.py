@@ -7,7 +7,7 @@ from typing import Mapping
 
 from ..model import BUDGET_BASES, AssetType, Budget, Limit, Study, Unit
 from .keys import BUDGET_KEYS, LIMIT_KEYS
-from .problems import Checker, blocks, year_runs
+from .problems import CAP_MAX, UNITS_MAX, Checker, blocks, year_runs
 
 
 def _budget(chk: Checker, doc: Mapping, study: Study | None) -> Budget | None:
@@ -17,7 +17,7 @@ def _budget(chk: Checker, doc: Mapping, study: Study | None) -> Budget | None:
     if b is None:
         return None
     chk.keys(b, BUDGET_KEYS, "budget")
-    cap = chk.number(b, "cap", "budget", required=False, default=None, lo=0, what="money ≥ 0")
+    cap = chk.number(b, "cap", "budget", required=False, default=None, lo=0, hi=CAP_MAX, what="money ≥ 0")
     basis = chk.choice(b, "basis", "budget", BUDGET_BASES, "gross")
     by_year: dict[int, float] = {}
     if "cap_by_year" in b:
@@ -33,7 +33,7 @@ def _budget(chk: Checker, doc: Mapping, study: Study | None) -> Budget | None:
                 chk.bad(where, f"year {year} is outside the horizon {study.start_year} … "
                         f"{study.start_year + study.horizon - 1}")
                 continue
-            v = chk.number_value(val, where, lo=0, what="money ≥ 0")
+            v = chk.number_value(val, where, lo=0, hi=CAP_MAX, what="money ≥ 0")
             if v is not None:
                 by_year[year] = v
     return Budget(cap=cap, cap_by_year=by_year, basis=basis)
@@ -62,13 +62,21 @@ def _limits(chk: Checker, doc: Mapping, classes: set[str]) -> list[Limit]:
     return out
 
 
-def _coverage(chk: Checker, study: Study, types: list[AssetType], units: list[Unit]) -> None:
-    """Each class that holds units must have a type to buy in every planning year."""
+def _coverage(chk: Checker, study: Study, types: list[AssetType], units: list[Unit], skip=frozenset()) -> None:
+    """Each class that holds units must have a type to buy in every planning year (``skip``: classes not judged)."""
     by_id = {t.id: t for t in types}
-    classes = {by_id[u.type].class_ for u in units if u.type in by_id}
+    classes = {by_id[u.type].class_ for u in units if u.type in by_id} - set(skip)
     for cls in sorted(classes):
         gaps = [y for y in study.years if not any(t.class_ == cls and t.buyable(y) for t in types)]
         if gaps:
             runs = year_runs(gaps)
             chk.bad(f"class {cls!r}", f"no asset type of this class can be bought in {runs}; a unit reaching "
                     "max_age then could not be replaced (widen a buy_from/buy_until window or add a type)")
+
+
+def _size(chk: Checker, units: list[Unit]) -> None:
+    """The whole inventory holds at most UNITS_MAX units (counts included), so a plan fits in memory."""
+    total = sum(u.count for u in units)
+    if total > UNITS_MAX:
+        chk.bad("unit", f"the inventory holds {total:,} units (counts included): at most {UNITS_MAX:,} are allowed "
+                "in one case (split the fleet into cases by class)")

@@ -163,7 +163,7 @@ def case_units(case: Case) -> pd.DataFrame:
     """Units of the case inventory, by name: type, in-service date (1 January of start_year − age)."""
     rows = []
     for u in case.units:
-        names = u.names() + ([u.id] if u.count == 1 else [])
+        names = u.names()  # a single unit is named by its id, a block of n by id#1 … id#n
         ins = pd.Timestamp(year=case.study.start_year - u.age, month=1, day=1)
         rows += [(n, u.type, ins, pd.NaT, f"{case.source} inventory row {u.id!r}") for n in names]
     return pd.DataFrame(rows, columns=["unit", "type", "in_service", "out_of_service", "origin"]).set_index("unit")

@@ -205,11 +205,12 @@ def compare_text(cmp: Comparison) -> str:
     return "\n".join(out)
 
 
-def write_compare(cmp: Comparison, case: Case, out_dir: Path | str) -> list[Path]:
-    """compare.json, compare.csv and report.html, each written atomically."""
+def write_compare(cmp: Comparison, case: Case, out_dir: Path | str, run_id: str | None = None) -> list[Path]:
+    """compare.json (with the output set's ``run_id`` first when given), compare.csv and report.html."""
     from . import documents
 
     out = Path(out_dir)
-    return [files.write_json(out / "compare.json", cmp.to_dict()),
+    body = cmp.to_dict()
+    return [files.write_json(out / "compare.json", {"run_id": run_id, **body} if run_id is not None else body),
             files.write_text(out / "compare.csv", compare_csv(cmp)),
-            documents.write_compare_report(cmp, case, out)]
+            documents.write_compare_report(cmp, case, out, run_id)]

@@ -16,7 +16,7 @@ from ..life import life_table
 from ..model import Case
 from ..progress import bar
 from ..scenarios import Comparison
-from . import buylist, charts, files, grouped_html, groups, html, xlsx
+from . import buylist, charts, files, grouped_html, groups, html, notes, xlsx
 
 
 def life_tables(case: Case) -> list:
@@ -42,18 +42,21 @@ def _grouping(case: Case, by: str | None) -> str | None:
     return by if by is not None else case.group_by
 
 
-def plan_html(plan, case: Case, list_years: int = buylist.DEFAULT_YEARS, by: str | None = None) -> str:
-    """The text of ``report.html`` for a plan (buy list of ``list_years`` years, summaries by the column ``by``)."""
+def plan_html(plan, case: Case, list_years: int = buylist.DEFAULT_YEARS, by: str | None = None,
+              run_id: str | None = None, warnings=()) -> str:
+    """The text of ``report.html`` for a plan: buy list of ``list_years`` years, summaries by the column ``by``,
+    the output set's run id and the case's plausibility warnings."""
     col = _grouping(case, by)
     extra = {"summary": grouped_html.overdue_html(case),
              "first_years": grouped_html.first_years_html(plan, case, col) if col else None,
              "tables": grouped_html.buy_list_html(buylist.buy_list(plan, list_years, col))
              + (grouped_html.group_html(groups.group_summary(plan, col)) if col else "")}
     with np.errstate(all="ignore"):
-        return html.plan_report(plan, case, life_tables(case), extra)
+        return html.plan_report(plan, case, life_tables(case), extra, notes=notes.run_notes_html(run_id, warnings))
 
 
-def plan_xlsx(plan, case: Case, list_years: int = buylist.DEFAULT_YEARS, by: str | None = None) -> bytes:
+def plan_xlsx(plan, case: Case, list_years: int = buylist.DEFAULT_YEARS, by: str | None = None,
+              run_id: str | None = None, warnings=()) -> bytes:
     """The bytes of ``plan.xlsx`` for a plan, with the "buy list" sheet (and "by COLUMN" when grouped)."""
     col = _grouping(case, by)
     bl = buylist.buy_list(plan, list_years, col)
@@ -61,33 +64,34 @@ def plan_xlsx(plan, case: Case, list_years: int = buylist.DEFAULT_YEARS, by: str
     if col:
         gs = groups.group_summary(plan, col)
         sheets.append((f"by {col}", lambda ws: groups.group_sheet(ws, gs)))
-    return xlsx.workbook_bytes(plan, case, policies(case), extra_sheets=sheets)
+    return xlsx.workbook_bytes(plan, case, policies(case), extra_sheets=sheets, run_id=run_id, warnings=warnings)
 
 
 def write_all(plan, case: Case, out_dir, *, list_years: int = buylist.DEFAULT_YEARS, by: str | None = None,
-              progress: bool = True) -> list[Path]:
+              run_id: str | None = None, warnings=(), progress: bool = True) -> list[Path]:
     """Write ``report.html`` and ``plan.xlsx`` into ``out_dir``; returns the paths.
 
-    Both documents are rendered before either is written.  On large fleets
-    rendering takes a while: a progress bar (``tenure.progress``) shows the
+    Both documents are rendered before either is written.  ``run_id`` names the output set
+    (``report.transaction``); ``warnings`` are the case's plausibility warnings, listed in both.
+    On large fleets rendering takes a while: a progress bar (``tenure.progress``) shows the
     step on a terminal.
     """
     out = Path(out_dir)
     with bar(2, "report", enabled=progress) as b:
         b.set_postfix_str("report.html")
-        page = plan_html(plan, case, list_years, by)
+        page = plan_html(plan, case, list_years, by, run_id, warnings)
         b.update()
         b.set_postfix_str("plan.xlsx")
-        book = plan_xlsx(plan, case, list_years, by)
+        book = plan_xlsx(plan, case, list_years, by, run_id, warnings)
         b.update()
     return [files.write_text(out / "report.html", page), files.write_bytes(out / "plan.xlsx", book)]
 
 
-def compare_html(compare: Comparison, case: Case) -> str:
-    """The text of ``report.html`` for a comparison of scenarios."""
-    return html.compare_report(compare, case)
+def compare_html(compare: Comparison, case: Case, run_id: str | None = None) -> str:
+    """The text of ``report.html`` for a comparison of scenarios (with the output set's run id)."""
+    return html.compare_report(compare, case, notes=notes.run_notes_html(run_id))
 
 
-def write_compare_report(compare: Comparison, case: Case, out_dir) -> Path:
+def write_compare_report(compare: Comparison, case: Case, out_dir, run_id: str | None = None) -> Path:
     """Write the comparison's ``report.html`` into ``out_dir``; returns its path."""
-    return files.write_text(Path(out_dir) / "report.html", compare_html(compare, case))
+    return files.write_text(Path(out_dir) / "report.html", compare_html(compare, case, run_id))

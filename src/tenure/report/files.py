@@ -7,11 +7,28 @@ temporary file in the destination folder and renames it into place
 
 from __future__ import annotations
 
+import errno
 import json
+import math
 import os
 import tempfile
 from pathlib import Path
 from typing import Any
+
+
+class OutputError(Exception):
+    """An output that cannot be written; the message names the path and the reason (the CLI exits 2)."""
+
+
+def describe_os_error(exc: OSError) -> str:
+    """``path: reason`` of an OSError in words a user can act on (a folder is called a folder)."""
+    reasons = {errno.EISDIR: "is a directory, not a file", errno.ENOTDIR: "a part of the path is a file, not a directory",
+               errno.EACCES: "permission denied", errno.EPERM: "operation not permitted",
+               errno.ENOSPC: "no space left on the device", errno.EROFS: "the file system is read-only",
+               errno.ENOENT: "no such file or folder", errno.EDQUOT: "disk quota exceeded"}
+    reason = reasons.get(exc.errno, exc.strerror or str(exc))
+    where = exc.filename if exc.filename is not None else ""
+    return f"{where}: {reason}" if where else reason
 
 
 def _umask() -> int:
@@ -21,8 +38,19 @@ def _umask() -> int:
 
 
 def write_bytes(path: Path | str, data: bytes) -> Path:
-    """Write ``data`` to ``path`` atomically; returns the path."""
-    path = Path(path)
+    """Write ``data`` to ``path`` atomically; returns the path.
+
+    An OSError (disk full, permission, a folder in the way) becomes :class:`OutputError` naming the path.
+    """
+    try:
+        return _write_bytes(Path(path), data)
+    except OSError as exc:
+        if exc.filename is None:
+            exc.filename = str(path)
+        raise OutputError(describe_os_error(exc)) from None
+
+
+def _write_bytes(path: Path, data: bytes) -> Path:
     path.parent.mkdir(parents=True, exist_ok=True)
     fd, tmp = tempfile.mkstemp(prefix=f".{path.name}.", suffix=".part", dir=path.parent)
     try:
@@ -48,5 +76,23 @@ def write_text(path: Path | str, text: str) -> Path:
 
 
 def write_json(path: Path | str, obj: Any) -> Path:
-    """Write ``obj`` as indented JSON atomically."""
-    return write_text(path, json.dumps(obj, indent=2, ensure_ascii=False) + "\n")
+    """Write ``obj`` as indented JSON atomically; NaN and infinities are written as null (JSON has neither)."""
+    return write_text(path, dumps(obj) + "\n")
+
+
+def finite(obj: Any) -> Any:
+    """``obj`` with every NaN or infinite float replaced by None, for strict JSON."""
+    if isinstance(obj, float):
+        return obj if math.isfinite(obj) else None
+    if isinstance(obj, dict):
+        return {k: finite(v) for k, v in obj.items()}
+    if isinstance(obj, (list, tuple)):
+        return [finite(v) for v in obj]
+    if hasattr(obj, "dtype") and getattr(obj, "shape", None) == ():  # numpy scalar
+        return finite(obj.item())
+    return obj
+
+
+def dumps(obj: Any, indent: int = 2) -> str:
+    """Strict JSON text (``allow_nan=False``) of ``obj`` after :func:`finite`."""
+    return json.dumps(finite(obj), indent=indent, ensure_ascii=False, allow_nan=False)

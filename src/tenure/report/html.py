@@ -424,8 +424,9 @@ def plan_charts(plan, case: Case, life_tables) -> list[tuple[str, str, str, str]
     return out
 
 
-def plan_report(plan, case: Case, life_tables, extra: dict | None = None) -> str:
-    """The whole ``report.html`` of a plan; ``extra`` holds HTML parts by place ("summary", "first_years", "tables")."""
+def plan_report(plan, case: Case, life_tables, extra: dict | None = None, notes: str = "") -> str:
+    """The whole ``report.html`` of a plan; ``extra`` holds HTML parts by place ("summary", "first_years",
+    "tables"); ``notes`` the run id and warnings (report.notes), shown above the footer."""
     extra = extra or {}
     s = case.study
     what = "a least-cost plan" if plan.status == "optimal" else "a plan" if plan.success else "an attempted plan"
@@ -438,7 +439,7 @@ def plan_report(plan, case: Case, life_tables, extra: dict | None = None) -> str
                   charts=[(cid, ttl, read, Markup(svg)) for cid, ttl, read, svg in plan_charts(plan, case, life_tables)],
                   class_table=Markup(class_table_html(plan, case)), years_table=Markup(years_table_html(plan, case)),
                   extra_tables=Markup(extra.get("tables", "")),
-                  assumptions=Markup(assumptions_html(case)), footer=Markup(footer_html(case)))
+                  assumptions=Markup(assumptions_html(case)), footer=Markup(notes + footer_html(case)))
 
 
 # ---------------------------------------------------------------------------
@@ -501,8 +502,8 @@ def _safe_rows(cmp: Comparison) -> list[tuple]:
     return rows
 
 
-def compare_report(cmp: Comparison, case: Case) -> str:
-    """The whole ``report.html`` of a comparison of scenarios (templates/compare.html.j2)."""
+def compare_report(cmp: Comparison, case: Case, notes: str = "") -> str:
+    """The whole ``report.html`` of a comparison of scenarios (templates/compare.html.j2); ``notes`` the run id."""
     s = case.study
     cur = str(s.start_year)
     title = s.title or "Scenario comparison"
@@ -523,7 +524,7 @@ def compare_report(cmp: Comparison, case: Case) -> str:
         first_year=[(r.id, actions_text(r.first_year_actions)) for r in scen],
         differ_rows=[[d.unit, d.year] + [d.actions.get(i, "—") for i in ids] for d in cmp.differ_early],
         types=types, buy_rows=[[r.id] + [money(r.buys_by_type.get(t, 0)) for t in types] for r in scen],
-        assumptions=Markup(assumptions_html(case)), footer=Markup(footer_html(case)))
+        assumptions=Markup(assumptions_html(case)), footer=Markup(notes + footer_html(case)))
 
 
 def _signed(x) -> str:

@@ -32,10 +32,12 @@ def sensitivity_csv(sw: Sweep) -> str:
     return _csv(*sw.sensitivity_rows(), 3)
 
 
-def write_sweep(sw: Sweep, out_dir: Path | str) -> list[Path]:
-    """sweep.json, sweep.csv (points) and sensitivity.csv, written atomically."""
+def write_sweep(sw: Sweep, out_dir: Path | str, run_id: str | None = None) -> list[Path]:
+    """sweep.json (with the output set's ``run_id`` first when given), sweep.csv (points) and sensitivity.csv."""
     out = Path(out_dir)
-    return [files.write_json(out / "sweep.json", sw.to_dict()), files.write_text(out / "sweep.csv", sweep_csv(sw)),
+    body = sw.to_dict()
+    return [files.write_json(out / "sweep.json", {"run_id": run_id, **body} if run_id is not None else body),
+            files.write_text(out / "sweep.csv", sweep_csv(sw)),
             files.write_text(out / "sensitivity.csv", sensitivity_csv(sw))]
 
 

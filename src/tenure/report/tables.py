@@ -1,6 +1,9 @@
 """Machine-readable plan outputs: ``plan.json``, ``units.csv``, ``years.csv``, ``buy-list.csv``.
 
-Every file is rendered in memory and written atomically (``report.files``).
+Every file is rendered in memory and written atomically (``report.files``).  Text cells that a
+spreadsheet would read as a formula (first character ``=``, ``+``, ``-``, ``@``, tab or carriage return)
+are neutralised with a leading apostrophe, as OWASP's CSV-injection guidance recommends
+(docs/outputs.md); numbers are written as numbers.
 """
 
 from __future__ import annotations
@@ -13,7 +16,26 @@ from ..plan import UNIT_COLUMNS, YEAR_COLUMNS, Plan, attribute_names, event_rows
 from ..textutil import csv_cell
 from . import buylist, files
 
-__all__ = ["UNIT_COLUMNS", "YEAR_COLUMNS", "units_csv", "years_csv", "write_plan"]
+__all__ = ["UNIT_COLUMNS", "YEAR_COLUMNS", "units_csv", "years_csv", "write_plan", "plan_dict", "safe_text",
+           "safe_row"]
+
+FORMULA_START = ("=", "+", "-", "@", "\t", "\r")
+
+
+def safe_text(x):
+    """A text cell that no spreadsheet evaluates: ``'`` is put before a leading =, +, -, @, tab or CR.
+
+    OWASP, "CSV Injection" (owasp.org/www-community/attacks/CSV_Injection): prefix such cells with a
+    single quote.  Non-text values are returned unchanged.
+    """
+    if isinstance(x, str) and x.startswith(FORMULA_START):
+        return "'" + x
+    return x
+
+
+def safe_row(values) -> tuple:
+    """Every text value of a row through :func:`safe_text`."""
+    return tuple(safe_text(v) for v in values)
 
 
 def units_csv(plan: Plan) -> str:
@@ -26,7 +48,7 @@ def units_csv(plan: Plan) -> str:
     w = csv.writer(buf, lineterminator="\n")
     w.writerow(UNIT_COLUMNS + tuple(kept))
     for row in event_rows(plan, kept):
-        w.writerow([csv_cell(x) for x in row])
+        w.writerow(safe_row(csv_cell(x) for x in row))
     return buf.getvalue()
 
 
@@ -38,20 +60,27 @@ def years_csv(plan: Plan) -> str:
     for row in year_rows(plan):
         *money, shadow, mix = row
         w.writerow([csv_cell(x) for x in money] + ["" if shadow is None else f"{shadow:.6f}",
-                                                   ";".join(f"{t}:{n}" for t, n in mix.items())])
+                                                   safe_text(";".join(f"{t}:{n}" for t, n in mix.items()))])
     return buf.getvalue()
 
 
-def write_plan(plan: Plan, out_dir: Path | str, *, list_years: int = buylist.DEFAULT_YEARS,
+def plan_dict(plan: Plan, run_id: str | None = None) -> dict:
+    """The ``plan.json`` document: ``Plan.to_dict()`` with the ``run_id`` of its output set first."""
+    body = plan.to_dict()
+    return {"run_id": run_id, **body} if run_id is not None else body
+
+
+def write_plan(plan: Plan, out_dir: Path | str, run_id: str | None = None, *, list_years: int = buylist.DEFAULT_YEARS,
                group_by: str | None = None) -> list[Path]:
-    """Write plan.json, units.csv, years.csv and buy-list.csv into ``out_dir``; returns the paths.
+    """Write plan.json (with ``run_id`` when given), units.csv, years.csv and buy-list.csv into ``out_dir``;
+    returns the paths.
 
     ``buy-list.csv`` covers the first ``list_years`` planning years, grouped by the kept column ``group_by``.
     """
     out = Path(out_dir)
     rendered = {"plan.json": None, "units.csv": units_csv(plan), "years.csv": years_csv(plan),
                 "buy-list.csv": buylist.buy_list_csv(buylist.buy_list(plan, list_years, group_by))}
-    paths = [files.write_json(out / "plan.json", plan.to_dict())]
+    paths = [files.write_json(out / "plan.json", plan_dict(plan, run_id))]
     for name in ("units.csv", "years.csv", "buy-list.csv"):
         paths.append(files.write_text(out / name, rendered[name]))
     return paths

@@ -51,6 +51,8 @@ class _Sheet:
         self.row += 1
         for j, v in enumerate(values, start=1):
             c = self.ws.cell(row=self.row, column=j, value=v)
+            if isinstance(v, str):
+                c.data_type = "s"  # text from a case is never a formula, even when it starts with '='
             if fmt and (j - 1) in fmt and v is not None:
                 c.number_format = fmt[j - 1]
             if font is not None:
@@ -91,7 +93,7 @@ class _Sheet:
 
 
 # ---------------------------------------------------------------------------
-def summary_sheet(ws, plan, case: Case):
+def summary_sheet(ws, plan, case: Case, run_id: str | None = None):
     s = case.study
     cur = s.start_year
     sh = _Sheet(ws)
@@ -99,6 +101,7 @@ def summary_sheet(ws, plan, case: Case):
     rows = [
         ("study", s.title, ""),
         ("case file", case.source, ""),
+        ("run id", run_id or "", "the same id is in plan.json, report.html and manifest.json"),
         ("status", plan.status, plan.method),
         ("plan found by", plan.provenance.method if plan.provenance else "", ""),
         ("lower bound from", plan.provenance.lower_bound if plan.provenance else "", ""),
@@ -266,10 +269,21 @@ def assumptions_sheet(ws, case: Case):
     sh.finish(fixed={1: 26})
 
 
-def workbook_bytes(plan, case: Case, solutions: dict | None = None, extra_sheets=()) -> bytes:
-    """The whole ``plan.xlsx`` as bytes; ``extra_sheets`` are (title, fill(ws)) pairs added after "units"."""
+def warnings_sheet(ws, warnings) -> None:
+    """One row per plausibility warning (``tenure.plausibility.Warning``)."""
+    sh = _Sheet(ws)
+    sh.head(("code", "where", "warning"))
+    for w in warnings:
+        sh.put((w.code, w.where, w.message))
+    sh.finish(fixed={3: 90})
+
+
+def workbook_bytes(plan, case: Case, solutions: dict | None = None, extra_sheets=(), run_id: str | None = None,
+                   warnings=()) -> bytes:
+    """The whole ``plan.xlsx`` as bytes; ``extra_sheets`` are (title, fill(ws)) pairs added after "units";
+    with the output set's ``run_id`` and the case's plausibility warnings."""
     wb = Workbook()
-    summary_sheet(wb.active, plan, case)
+    summary_sheet(wb.active, plan, case, run_id)
     wb.active.title = "summary"
     years_sheet(wb.create_sheet("years"), plan, case)
     units_sheet(wb.create_sheet("units"), plan, case)
@@ -277,6 +291,8 @@ def workbook_bytes(plan, case: Case, solutions: dict | None = None, extra_sheets
         fill(wb.create_sheet(title[:31]))
     policy_sheet(wb.create_sheet("policy"), case, solutions)
     assumptions_sheet(wb.create_sheet("assumptions"), case)
+    if warnings:
+        warnings_sheet(wb.create_sheet("warnings"), warnings)
     wb.properties.creator = f"tenure {__version__}"
     wb.properties.title = case.study.title
     buf = io.BytesIO()
