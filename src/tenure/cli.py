@@ -52,7 +52,8 @@ def cmd_life(args) -> int:
     if not (1900 <= year <= 2300):
         raise UsageError(f"--year {year}: must be a calendar year")
     chosen = [case.type(args.type)] if args.type else [t for t in case.types if t.buyable(year)] or list(case.types)
-    tables = [life_table(t, case.study.discount_rate, case.study.start_year, year, args.tolerance) for t in chosen]
+    tables = [life_table(t, case.study.discount_rate, case.study.start_year, year, args.tolerance,
+                         carbon_price=case.study.carbon_price) for t in chosen]
     if args.json:
         payload = tables[0].to_dict() if len(tables) == 1 else [lt.to_dict() for lt in tables]
         print(json.dumps(payload, indent=2))
@@ -63,8 +64,16 @@ def cmd_life(args) -> int:
         if j:
             print()
         print(text.life_text(lt, f"Economic life of {lt.type} ({t.class_}), bought {year}, "
-                                 f"rate {case.study.discount_rate:.2%}{note}"))
+                                 f"rate {case.study.discount_rate:.2%}{_rate_note(case)}{note}"))
     return 0
+
+
+def _rate_note(case) -> str:
+    """How a real rate was derived from a nominal one (Fisher relation), for printing."""
+    s = case.study
+    if s.rate_basis != "nominal":
+        return ""
+    return f" real = (1 + {s.nominal_rate:.2%} nominal)/(1 + {s.inflation:.2%} inflation) − 1"
 
 
 def _near(value: str, allowed: list[str]) -> str:

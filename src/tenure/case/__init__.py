@@ -22,6 +22,7 @@ from .assets import _asset_types, _study
 from .inventory import _units
 from .keys import (BUDGET_KEYS, CSV_COLUMNS, CSV_OPTIONAL, DISTRIBUTIONS, FLEET_KEYS, FORMAT_VERSION, LIMIT_KEYS,
                    SCENARIO_KEYS, STUDY_KEYS, TOP_KEYS, TYPE_KEYS, UNCERTAIN_KEYS, UNIT_KEYS)
+from .plan_rules import _demands, _emission_caps, _orders, _targets
 from .problems import CaseError, Checker, Problem, blocks
 from .rules import _budget, _coverage, _limits
 from .variants import _scenarios, _uncertain
@@ -64,6 +65,10 @@ def build_case(doc: Mapping[str, Any], *, source: str = "<memory>", base_dir: Pa
     limits = _limits(chk, doc, classes)
     scenarios = _scenarios(chk, doc)
     uncertain = _uncertain(chk, doc)
+    demands = _demands(chk, doc, study, types, units)
+    orders = _orders(chk, doc, study, types, units)
+    targets = _targets(chk, doc, types)
+    emission_caps = _emission_caps(chk, doc)
     if study is not None and not chk.problems:
         _coverage(chk, study, types, units)
     if chk.problems:
@@ -73,7 +78,8 @@ def build_case(doc: Mapping[str, Any], *, source: str = "<memory>", base_dir: Pa
     raw.pop("fleet", None)
     raw["unit"] = [{"id": u.id, "type": u.type, "age": u.age, "count": u.count} for u in units]
     return Case(study=study, types=tuple(types), units=tuple(units), budget=budget, limits=tuple(limits),
-                scenarios=tuple(scenarios), uncertain=tuple(uncertain), source=source, raw=raw)
+                scenarios=tuple(scenarios), uncertain=tuple(uncertain), demands=tuple(demands), orders=tuple(orders),
+                targets=tuple(targets), emission_caps=tuple(emission_caps), source=source, raw=raw)
 
 
 def read_document(path: Path | str) -> dict[str, Any]:

@@ -4,8 +4,8 @@ from __future__ import annotations
 
 from typing import Any, Mapping
 
-from ..model import END_VALUES, AssetType, OMCurve, Study, ValueCurve
-from .keys import STUDY_KEYS, TYPE_KEYS
+from ..model import END_VALUES, RATE_BASES, AssetType, Emissions, OMCurve, Study, ValueCurve
+from .keys import EMISSION_KEYS, STUDY_KEYS, TYPE_KEYS
 from .problems import Checker, blocks
 
 
@@ -26,9 +26,44 @@ def _study(chk: Checker, doc: Mapping) -> Study | None:
     if end_value == "continuing" and rate is not None and rate <= 0:
         chk.bad("study.discount_rate", f"= {rate!r}: end_value = 'continuing' needs a discount rate > 0 "
                 "(a capitalised cost EAC/i is infinite at a zero rate); use end_value = 'salvage' or a positive rate")
-    if None in (start, horizon, rate):
+    inflation = chk.number(s, "inflation", "study", required=False, default=0.0, lo=-1, lo_open=True,
+                           what="a rate per year")
+    rate_basis = chk.choice(s, "rate_basis", "study", RATE_BASES, "real")
+    carbon = chk.number(s, "carbon_price", "study", required=False, default=0.0, lo=0,
+                        what="money per tonne ≥ 0")
+    if None in (start, horizon, rate, inflation, carbon):
         return None
-    return Study(title=title, start_year=start, horizon=horizon, discount_rate=rate, end_value=end_value)
+    nominal = None
+    if rate_basis == "nominal":
+        nominal, rate = rate, fisher_real_rate(rate, inflation)
+    return Study(title=title, start_year=start, horizon=horizon, discount_rate=rate, end_value=end_value,
+                 inflation=inflation, rate_basis=rate_basis, nominal_rate=nominal, carbon_price=carbon)
+
+
+def fisher_real_rate(nominal: float, inflation: float) -> float:
+    """Real rate per year from a nominal rate and general inflation (Fisher relation).
+
+    ``real = (1 + nominal)/(1 + inflation) − 1`` (I. Fisher, *The Theory of Interest*, 1930;
+    common practice in engineering economy texts).
+    """
+    return (1.0 + nominal) / (1.0 + inflation) - 1.0
+
+
+def _emissions(chk: Checker, b: Mapping, p: str) -> Emissions | None:
+    if "emissions" not in b:
+        return Emissions()
+    v = b["emissions"]
+    where = f"{p}.emissions"
+    if not isinstance(v, dict):
+        x = chk.number_value(v, where, lo=0, what="tonnes per unit-year ≥ 0 or { first, change }")
+        return None if x is None else Emissions(first=x)
+    chk.keys(v, EMISSION_KEYS, where)
+    first = chk.number(v, "first", where, lo=0, what="tonnes per unit-year ≥ 0")
+    change = chk.number(v, "change", where, required=False, default=0.0, lo=-1, lo_open=True,
+                        what="a rate per vintage year")
+    if first is None or change is None:
+        return None
+    return Emissions(first=first, change=change)
 
 
 def _om_curve(chk: Checker, v: Any, path: str) -> OMCurve | None:
@@ -138,8 +173,16 @@ def _asset_types(chk: Checker, doc: Mapping) -> list[AssetType]:
             sv = None
         else:
             sv = _value_curve(chk, b["salvage"], f"{p}.salvage")
-        if None in (tid, cls, price, price_change, om_change, om, sv, max_age):
+        min_age = chk.integer(b, "min_age", p, required=False, default=0, lo=0, hi=100,
+                              what="a whole number of years ≥ 0")
+        if min_age is not None and max_age is not None and min_age > max_age:
+            chk.bad(f"{p}.min_age", f"= {min_age}: must not exceed max_age = {max_age} (a unit at max_age must be "
+                    "replaced, so a minimum life past it could never be kept); allowed: 0 … max_age")
+            min_age = None
+        em = _emissions(chk, b, p)
+        if None in (tid, cls, price, price_change, om_change, om, sv, max_age, min_age, em):
             continue
         out.append(AssetType(id=tid, class_=cls, price=price, price_change=price_change, om_change=om_change,
-                             buy_from=buy_from, buy_until=buy_until, max_age=max_age, om=om, salvage=sv))
+                             buy_from=buy_from, buy_until=buy_until, max_age=max_age, om=om, salvage=sv,
+                             min_age=min_age, emissions=em))
     return out

@@ -14,7 +14,8 @@ from . import files
 
 UNIT_COLUMNS = ("unit", "class", "start_type", "start_age", "year", "action", "from_type", "from_age", "type",
                 "price", "market_value", "defer_cost", "advance_cost")
-YEAR_COLUMNS = ("year", "buys", "capital", "salvage", "om", "cap", "slack", "shadow_price", "buys_by_type")
+YEAR_COLUMNS = ("year", "buys", "capital", "salvage", "om", "cap", "slack", "shadow_price", "buys_by_type",
+                "sells", "in_service", "tonnes", "carbon", "capital_nominal", "cap_nominal")
 
 
 def _cell(x):
@@ -31,7 +32,7 @@ def units_csv(plan: Plan) -> str:
     w = csv.writer(buf, lineterminator="\n")
     w.writerow(UNIT_COLUMNS)
     for u in plan.units:
-        head = (u.unit, u.class_, u.start_type, u.start_age)
+        head = (u.unit, u.class_, u.start_type, _cell(u.start_age))
         if not u.events:
             w.writerow(head + ("", "keep", u.start_type, u.start_age, u.start_type, "", "", "", ""))
         for e in u.events:
@@ -41,7 +42,11 @@ def units_csv(plan: Plan) -> str:
 
 
 def years_csv(plan: Plan) -> str:
-    """One row per planning year; ``buys_by_type`` as ``type:n;type:n``."""
+    """One row per planning year; ``buys_by_type`` as ``type:n;type:n``.
+
+    ``capital``, ``cap`` and ``slack`` are constant start-year money; ``capital_nominal`` and
+    ``cap_nominal`` the same in then-year money (docs/conventions.md, "Nominal money").
+    """
     buf = io.StringIO()
     w = csv.writer(buf, lineterminator="\n")
     w.writerow(YEAR_COLUMNS)
@@ -49,7 +54,8 @@ def years_csv(plan: Plan) -> str:
         mix = ";".join(f"{t}:{n}" for t, n in y.buys_by_type.items())
         shadow = "" if y.shadow_price is None else f"{y.shadow_price:.6f}"
         w.writerow((y.year, y.buys, _cell(y.capital), _cell(y.salvage), _cell(y.om), _cell(y.cap), _cell(y.slack),
-                    shadow, mix))
+                    shadow, mix, y.sells, y.in_service, f"{y.tonnes:.3f}", _cell(y.carbon),
+                    _cell(y.capital_nominal), _cell(y.cap_nominal)))
     return buf.getvalue()
 
 
