@@ -48,7 +48,7 @@ from dataclasses import dataclass, field
 
 import numpy as np
 
-from . import chain
+from . import chain, rules_check, rules_rows
 from .model import Case
 from .plan import PathGroup, Plan, assemble
 from .uncapped import build_graphs, solve_uncapped, starting_states
@@ -93,6 +93,8 @@ class CohortProgram:
     starts: dict  # class -> {(t, a): [names]}
     graphs: dict
     cap_coef: dict = field(default_factory=dict)  # col -> coefficient in its year's cap row
+    market_rhs: dict = field(default_factory=dict)  # (class, k) -> Σ buy − Σ sell (rules_rows.market_changes)
+    rule_rows: tuple = ()  # (row, rules_rows.RuleRow) of each coupling row
 
     @property
     def n_cols(self) -> int:
@@ -146,9 +148,10 @@ def build_program(case: Case, graphs=None, extra_cap: np.ndarray | None = None) 
     cap_coef: dict[int, float] = {}
     limit_rows: dict = {}
     cols: dict = {}
+    market_rhs = rules_rows.market_changes(case, starts)
     for cls, g in graphs.items():
         T, A1 = g.valid.shape
-        n_units = float(sum(len(v) for v in starts[cls].values()))
+        n_units = rules_rows.size_bound(case, cls, sum(len(v) for v in starts[cls].values()))
         reach = g.reachable(list(starts[cls]))
         keep = np.full((H, T, A1), -1, dtype=np.int64)
         sell = np.full((H, T, A1), -1, dtype=np.int64)
@@ -161,7 +164,7 @@ def build_program(case: Case, graphs=None, extra_cap: np.ndarray | None = None) 
                 if a < g.max_age[t]:
                     c = g.keep_pw[k, t, a] + (g.end_pw[t, a + 1] if k == H - 1 else 0.0)
                     keep[k, t, a] = new_col(float(c), n_units, k)
-                if any_buy:
+                if any_buy and (g.sellable is None or g.sellable[t, a]):
                     sell[k, t, a] = new_col(float(-g.sale_pw[k, t, a]), n_units, k)
             for t2 in np.flatnonzero(g.buyable[k]):
                 c = g.buy_pw[k, t2] + (g.end_pw[t2, 1] if k == H - 1 else 0.0)
@@ -186,7 +189,8 @@ def build_program(case: Case, graphs=None, extra_cap: np.ndarray | None = None) 
             b_cols = buy[k][buy[k] >= 0]
             if len(s_cols) == 0 and len(b_cols) == 0:
                 continue
-            r = new_row(0.0, 0.0)
+            d = -market_rhs.get((cls, k), 0.0)  # the row is Σ sell − Σ buy
+            r = new_row(d, d)
             for j in s_cols:
                 rows_i.append(r); cols_j.append(int(j)); vals.append(1.0)
             for j in b_cols:
@@ -207,6 +211,12 @@ def build_program(case: Case, graphs=None, extra_cap: np.ndarray | None = None) 
                 for j in b_cols:
                     rows_i.append(r); cols_j.append(int(j)); vals.append(1.0)
         cols[cls] = ColumnIndex(keep=keep, sell=sell, buy=buy)
+    rules = rules_rows.rule_rows(case, graphs, cols, starts)
+    placed = []
+    for rr in rules.rows:
+        r = new_row(rr.lo, rr.hi)
+        placed.append((r, rr))
+        rows_i.extend([r] * len(rr.cols)); cols_j.extend(rr.cols.tolist()); vals.extend(rr.coefs.tolist())
 
     n = len(cost)
     ri = np.asarray(rows_i, dtype=np.int32)
@@ -217,10 +227,14 @@ def build_program(case: Case, graphs=None, extra_cap: np.ndarray | None = None) 
     a_start = np.zeros(n + 1, dtype=np.int32)
     np.add.at(a_start, cj + 1, 1)
     a_start = np.cumsum(a_start).astype(np.int32)
-    return CohortProgram(cost=np.asarray(cost), lower=np.zeros(n), upper=np.asarray(upper), row_lower=np.asarray(row_lo),
+    lower = np.zeros(n)
+    for j, lo in rules.col_lower.items():
+        lower[j] = lo
+    return CohortProgram(cost=np.asarray(cost), lower=lower, upper=np.asarray(upper), row_lower=np.asarray(row_lo),
                          row_upper=np.asarray(row_hi), a_start=a_start, a_index=ri, a_value=vv, cap_rows=cap_rows,
                          limit_rows=limit_rows, col_year=np.asarray(col_year), cols=cols, starts=starts,
-                         graphs=graphs, cap_coef=cap_coef)
+                         graphs=graphs, cap_coef=cap_coef, market_rhs=market_rhs,
+                         rule_rows=tuple(placed))
 
 
 # ---------------------------------------------------------------------------
@@ -328,6 +342,8 @@ def _round_year(prog: CohortProgram, x: np.ndarray, k: int, case: Case, eager: i
     threshold = 0.5 if eager == 0 else 1e-6
 
     def class_buys(cls, n_sell):
+        # purchases = sales + the class's size change that year (rules_rows.market_changes)
+        n_sell = max(0.0, n_sell + prog.market_rhs.get((cls, k), 0.0))
         ci = prog.cols[cls]
         g = prog.graphs[cls]
         b = ci.buy[k]
@@ -371,7 +387,7 @@ def _round_year(prog: CohortProgram, x: np.ndarray, k: int, case: Case, eager: i
 
     def ok(choice):
         for cls, sells in choice.items():
-            if not limit_ok(cls, sum(v[0] for v in sells.values())):
+            if not limit_ok(cls, sum(v[0] for v in sells.values()) + prog.market_rhs.get((cls, k), 0.0)):
                 return False
         return year_spend(choice) <= cap + 1e-6
 
@@ -482,10 +498,14 @@ def flows_to_groups(prog: CohortProgram, x: np.ndarray, case: Case, uncapped_sol
     """Assign integral cohort flows to unit names and return their paths.
 
     Within a state the units keep their inventory order and the first ones are
-    sold; the year's sold units, oldest state first, take the year's purchases
-    in the case order of types.
+    sold (units an order ``replaces`` first in their year, last before it); the
+    year's sold units, oldest state first, take the year's purchases in the case
+    order of types.  Purchases beyond the sales are new units (named
+    ``<class>+<year>#n``); sales beyond the purchases leave without a replacement.
     """
     H = case.study.horizon
+    y0 = case.study.start_year
+    leaves = {nm: o.year - y0 for o in case.orders for nm in o.replaces}
     groups: dict = {}
     for cls, ci in prog.cols.items():
         g = prog.graphs[cls]
@@ -502,8 +522,13 @@ def flows_to_groups(prog: CohortProgram, x: np.ndarray, case: Case, uncapped_sol
         for k in range(H):
             nxt: dict[tuple[int, int], list[str]] = {}
             sold: list[tuple[int, int, str]] = []
+
+            def rank(nm, k=k):
+                due = leaves.get(nm)
+                return (0 if due == k else 1 if due is None else 2, order[nm])
+
             for (t, a) in sorted(at, key=lambda s: (-s[1], s[0])):
-                names = sorted(at[(t, a)], key=order.__getitem__)
+                names = sorted(at[(t, a)], key=rank)
                 js = int(ci.sell[k][t, a]) if a < ci.sell.shape[2] else -1
                 n_sell = int(round(x[js])) if js >= 0 else 0
                 for nm in names[:n_sell]:
@@ -516,20 +541,27 @@ def flows_to_groups(prog: CohortProgram, x: np.ndarray, case: Case, uncapped_sol
                 jb = int(ci.buy[k][t2])
                 if jb >= 0:
                     buys.extend([t2] * int(round(x[jb])))
-            if len(buys) != len(sold):
-                raise RuntimeError(f"cohort flows do not balance in {cls} {case.study.start_year + k}")
+            if len(buys) - len(sold) != int(round(prog.market_rhs.get((cls, k), 0.0))):
+                raise RuntimeError(f"cohort flows do not balance in {cls} {y0 + k}")
             for (t, a, nm), t2 in zip(sold, buys):
                 steps[nm].append(chain.Step(k, t, a, t2))
+                nxt.setdefault((t2, 1), []).append(nm)
+            for t, a, nm in sold[len(buys):]:
+                steps[nm].append(chain.Step(k, t, a, chain.SELL))
+            for j, t2 in enumerate(buys[len(sold):], start=1):
+                nm = f"{cls}+{y0 + k}#{j}"
+                order[nm], origin[nm] = len(order), (chain.NEW, chain.NEW)
+                steps[nm] = [chain.Step(k, chain.NEW, chain.NEW, t2)]
                 nxt.setdefault((t2, 1), []).append(nm)
             at = nxt
         sol = uncapped_sols[cls]
         for nm, st in steps.items():
-            key = (cls, tuple(st))
+            key = (cls, origin[nm], tuple(st))
             if key not in groups:
                 groups[key] = [st, [], origin[nm], chain.flexibility(sol, st)]
             groups[key][1].append(nm)
     return [PathGroup(class_=cls, steps=tuple(st), units=tuple(names), start=start, flex=tuple(flex))
-            for (cls, _), (st, names, start, flex) in groups.items()]
+            for (cls, _, _), (st, names, start, flex) in groups.items()]
 
 
 def _fits(plan: Plan, case: Case) -> bool:
@@ -652,7 +684,7 @@ def _shortfall(case: Case, graphs, time_limit: float, solver: str, uncapped_cost
     m = len(cap_years)
     # the flows' present cost, scaled far down, only breaks ties between plans needing the same extra capital
     cost = np.concatenate([prog.cost * 1e-6, np.ones(m)])
-    lower = np.zeros(n0 + m)
+    lower = np.concatenate([prog.lower, np.zeros(m)])
     upper = np.concatenate([prog.upper, np.full(m, INF)])
     starts = list(prog.a_start)
     index = list(prog.a_index)
@@ -665,7 +697,7 @@ def _shortfall(case: Case, graphs, time_limit: float, solver: str, uncapped_cost
                        a_start=np.asarray(starts, dtype=np.int32), a_index=np.asarray(index, dtype=np.int32),
                        a_value=np.asarray(value), cap_rows=prog.cap_rows, limit_rows=prog.limit_rows,
                        col_year=np.concatenate([prog.col_year, np.asarray(cap_years)]), cols=prog.cols,
-                       starts=prog.starts, graphs=graphs)
+                       starts=prog.starts, graphs=graphs, market_rhs=prog.market_rhs)
     h = _highs(el, integer=True)
     integ = np.concatenate([np.ones(n0, dtype=np.int32), np.zeros(m, dtype=np.int32)])
     h.changeColsIntegrality(n0 + m, np.arange(n0 + m, dtype=np.int32), integ)
@@ -729,7 +761,7 @@ def solve_capped(case: Case, solver: str = "highs", time_limit: float = 120.0, g
     sols = {c: chain.backward(g) for c, g in graphs.items()}
     free = solve_uncapped(case, graphs, sols)
     uncapped_cost = free.present_cost
-    if _fits(free, case):
+    if _fits(free, case) and not rules_check.breaks(case, free):
         log("the uncapped plan fits every cap and limit: it is optimal")
         stats.update(first_plan_seconds=round(time.perf_counter() - t0, 3), caps_binding=False)
         return free.with_(uncapped_cost=uncapped_cost, method="recursion (caps not binding)",
@@ -751,12 +783,17 @@ def solve_capped(case: Case, solver: str = "highs", time_limit: float = 120.0, g
         return _infeasible(case, graphs, sols, uncapped_cost, solver, deadline, t0, stats,
                            proven=st == "Infeasible")
     lp_bound = float(prog.cost @ x_lp)
+    integral = bool(np.all(np.abs(x_lp - np.round(x_lp)) < 1e-7))
     shadow = {case.study.start_year + k: float(max(0.0, -duals[prog.cap_rows[k]]))
               for k in range(case.study.horizon) if prog.cap_rows[k] >= 0}
     log(f"LP bound {lp_bound:,.0f}")
 
     best_x, best_cost, status_word = None, INF, "feasible"
-    if solver == "highs":
+    if integral:  # a network flow (e.g. class sizes without caps): the LP optimum is a whole-unit plan
+        best_x, best_cost = np.round(x_lp), float(prog.cost @ np.round(x_lp))
+        stats["first_plan_seconds"] = round(time.perf_counter() - t0, 3)
+        log("the LP relaxation is integral: its plan is optimal")
+    elif solver == "highs":
         xr = fix_and_relax(prog, case, h, x_lp, deadline, log)
         if xr is not None:
             best_x, best_cost = xr, float(prog.cost @ xr)
@@ -828,6 +865,10 @@ def _infeasible(case, graphs, sols, uncapped_cost, solver, deadline, t0, stats, 
     when it cannot tell within the time left.
     """
     left = max(5.0, deadline - time.perf_counter())
+    if case.coupled:
+        reason = rules_check.diagnose(case, graphs, left)
+        if reason:
+            raise InfeasibleLimits(reason)
     extra, x, prog, needs_extra = _shortfall(case, graphs, left, solver, uncapped_cost)
     proven = proven or needs_extra
     y0 = case.study.start_year

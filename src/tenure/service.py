@@ -103,3 +103,53 @@ def target_status(case: Case, plan: Plan, target: Target, tol: float = 1e-9) -> 
             break
         first_met = int(years[k])
     return TargetStatus(target=target, met=not short, first_met=first_met, first_short=short[0] if short else None)
+
+
+def class_sizes(case: Case, plan: Plan) -> dict[str, np.ndarray]:
+    """Units in service by class and planning year."""
+    by_type = in_service(case, plan)
+    out = {c: np.zeros(case.study.horizon, dtype=int) for c in case.classes}
+    for t in case.types:
+        out[t.class_] += by_type[t.id]
+    return out
+
+
+def broken_rules(case: Case, plan: Plan, required_sizes: dict[str, np.ndarray] | None = None) -> list[str]:
+    """The coupling rules a plan breaks, one line each (empty when it keeps them all).
+
+    ``required_sizes``: class → units that must be in service each year (from ``[[demand]]`` and
+    orders); the orders' purchases and disposals, the targets and the emission caps are checked
+    on the plan's schedule.
+    """
+    s = case.study
+    out = []
+    sizes = class_sizes(case, plan)
+    for cls, need in (required_sizes or {}).items():
+        bad = [y for y, n, m in zip(s.years, sizes[cls], need) if n != m]
+        if bad:
+            out.append(f"class {cls}: {sizes[cls][bad[0] - s.start_year]} units in service in {bad[0]}, "
+                       f"the rules need {need[bad[0] - s.start_year]}")
+    buys = bought(case, plan)
+    leave: dict[str, int] = {}
+    for u in plan.units:
+        for e in u.events:
+            if e.from_type:
+                leave.setdefault(u.unit, e.year)  # the unit itself leaves at its first sale
+    for o in case.orders:
+        ordered = sum(p.count for p in case.orders if p.type == o.type and p.year == o.year)
+        if buys[o.type][o.year - s.start_year] < ordered:
+            out.append(f"order of {o.count} {o.type} in {o.year}: only {buys[o.type][o.year - s.start_year]} bought")
+        for nm in o.replaces:
+            if leave.get(nm) != o.year:
+                out.append(f"order of {o.type} in {o.year}: {nm} does not leave that year")
+    for tg in case.targets:
+        st = target_status(case, plan, tg)
+        if not st.met:
+            out.append(f"target {tg.label}: not met in {st.first_short}")
+    tonnes = tonnes_by_year(case, plan)
+    for y, tn in zip(s.years, tonnes):
+        cap = case.emission_cap_for(y)
+        if cap is not None and tn > cap * (1 + 1e-9) + 1e-6:
+            out.append(f"emission cap {cap:g} t in {y}: the plan emits {tn:.1f} t")
+            break
+    return out
