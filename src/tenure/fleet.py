@@ -795,6 +795,9 @@ def solve_capped(case: Case, solver: str = "highs", time_limit: float = 120.0, g
         log("the LP relaxation is integral: its plan is optimal")
     elif solver == "highs":
         xr = fix_and_relax(prog, case, h, x_lp, deadline, log)
+        if xr is not None and case.coupled and not rules_rows.satisfies(prog, xr):
+            log("fix-and-relax plan breaks a coupling row: the MIP solver takes over")
+            xr = None
         if xr is not None:
             best_x, best_cost = xr, float(prog.cost @ xr)
             stats["first_plan_seconds"] = round(time.perf_counter() - t0, 3)

@@ -205,3 +205,15 @@ def rule_rows(case: Case, graphs: dict, cols: dict, starts: dict) -> RuleRows:
         return RuleRows()
     rows = _target_rows(case, cols) + _emission_rows(case, cols, graphs)
     return RuleRows(rows=tuple(rows), col_lower=_order_bounds(case, cols, starts))
+
+
+def satisfies(prog, x: np.ndarray, tol: float = 1e-6) -> bool:
+    """True when ``x`` meets every row and column bound of the program (a rounded plan is checked
+    this way because fix-and-relax accepts its last year without an LP re-solve)."""
+    import scipy.sparse as sp
+
+    a = sp.csc_matrix((prog.a_value, prog.a_index, prog.a_start), shape=(prog.n_rows, prog.n_cols))
+    ax = a @ x
+    scale = tol * np.maximum(1.0, np.abs(ax))
+    return bool(np.all(ax >= prog.row_lower - scale) and np.all(ax <= prog.row_upper + scale)
+                and np.all(x >= prog.lower - tol) and np.all(x <= prog.upper + tol))
