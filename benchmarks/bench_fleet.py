@@ -148,7 +148,7 @@ def run_layer(doc: dict, time_limit: float, workdir: Path) -> dict:
 # the plain cohort program: straight to HiGHS
 # ---------------------------------------------------------------------------
 def _silent_highs():
-    return fleet._new_highs()  # a quiet HiGHS instance (its banner muted)
+    return fleet.new_highs()  # a quiet HiGHS instance (its banner muted)
 
 
 def lp_bound(case) -> float:

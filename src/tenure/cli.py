@@ -13,6 +13,7 @@ from pathlib import Path
 
 from . import __version__
 from .case import CaseError, load_case
+from .plan import NoPlanError
 from .report import text
 
 EXIT_BAD_INPUT = 2
@@ -250,12 +251,6 @@ def build_parser() -> argparse.ArgumentParser:
     return p
 
 
-def _no_plan_errors() -> tuple:
-    """Exceptions meaning that no plan exists at all (caught only after they happen, so fleet loads lazily)."""
-    fleet = sys.modules.get("tenure.fleet")
-    return (fleet.InfeasibleLimits,) if fleet is not None else ()
-
-
 def main(argv: list[str] | None = None) -> int:
     parser = build_parser()
     args = parser.parse_args(argv)
@@ -272,7 +267,7 @@ def main(argv: list[str] | None = None) -> int:
     except UsageError as exc:
         print(f"tenure {args.command}: {exc}", file=sys.stderr)
         return EXIT_BAD_INPUT
-    except _no_plan_errors() as exc:
+    except NoPlanError as exc:
         print(f"tenure {args.command}: {exc}", file=sys.stderr)
         return EXIT_INFEASIBLE
     except BrokenPipeError:  # e.g. piped into `head`

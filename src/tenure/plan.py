@@ -20,7 +20,39 @@ import numpy as np
 from .chain import KEEP, NEW, SELL, StageGraph, Step, path_cost
 from .model import Case
 
-STATUSES = ("optimal", "feasible", "infeasible", "unsolved")
+
+class NoPlanError(Exception):
+    """No plan can be shown at all (the CLI exits 3 on it)."""
+
+
+class InfeasibleLimits(NoPlanError):
+    """No plan exists even with unlimited capital: a purchase limit binds."""
+
+    def __init__(self, message: str | None = None):
+        super().__init__(message or "no plan exists even with unlimited capital: the [[limit]] purchase limits are "
+                         "too low for the units that reach max_age (raise max_buys_per_year)")
+
+
+class NoPlanFound(NoPlanError):
+    """No plan was found in the time allowed, not even under raised caps; none is proven impossible."""
+
+
+@dataclass(frozen=True)
+class Provenance:
+    """Which method and which solver produced each figure of a plan, in words for the reports.
+
+    ``method``: how the plan itself was found, e.g. "fix-and-relax rounding of the LP relaxation
+    (HiGHS)"; ``lower_bound``: where the proven lower bound comes from, e.g. "LP relaxation
+    (HiGHS)" ("" when there is none); ``shadow_prices``: where the caps' shadow prices come from
+    ("" when none were computed).
+    """
+
+    method: str
+    lower_bound: str = ""
+    shadow_prices: str = ""
+
+    def to_dict(self) -> dict:
+        return {"method": self.method, "lower_bound": self.lower_bound, "shadow_prices": self.shadow_prices}
 
 
 @dataclass(frozen=True)
@@ -122,6 +154,8 @@ class Plan:
         Present cost of the best plan without caps and limits, for the premium.
     shortfall : tuple of (year, extra_capital)
         Least extra capital per year that makes an infeasible case feasible.
+    provenance : Provenance or None
+        The method and solver behind the plan, its bound and its shadow prices.
     """
 
     status: str
@@ -141,6 +175,7 @@ class Plan:
     message: str = ""
     stats: dict = field(default_factory=dict)
     forcing_units: tuple = ()
+    provenance: Provenance | None = None
 
     @property
     def success(self) -> bool:
@@ -187,6 +222,8 @@ class Plan:
             "stats": self.stats,
             "message": self.message,
         }
+        if self.provenance is not None:
+            d["provenance"] = self.provenance.to_dict()
         if self.status in ("infeasible", "unsolved") or self.shortfall:
             d["shortfall"] = [{"year": y, "extra_capital": _r(x)} for y, x in self.shortfall]
             d["forcing_units"] = list(self.forcing_units)
@@ -211,7 +248,8 @@ class PathGroup:
 
 def assemble(case: Case, graphs: dict[str, StageGraph], groups: Sequence[PathGroup], *, status: str, method: str,
              lower_bound: float | None = None, uncapped_cost: float | None = None, shortfall=(),
-             shadow: dict | None = None, message: str = "", stats: dict | None = None) -> Plan:
+             shadow: dict | None = None, message: str = "", stats: dict | None = None,
+             provenance: Provenance | None = None) -> Plan:
     """Build the :class:`Plan` from unit paths: events, yearly totals, present cost."""
     s = case.study
     H, y0 = s.horizon, s.start_year
@@ -260,7 +298,7 @@ def assemble(case: Case, graphs: dict[str, StageGraph], groups: Sequence[PathGro
                 gap=float(max(gap, 0.0)), years=tuple(years), units=tuple(units), end_year=y0 + H,
                 end_value=s.end_value, end_market_value=float(end_mv), by_class=by_class,
                 basis=budget.basis if budget is not None else "gross", uncapped_cost=uncapped_cost,
-                shortfall=tuple(shortfall), message=message, stats=dict(stats or {}))
+                shortfall=tuple(shortfall), message=message, stats=dict(stats or {}), provenance=provenance)
 
 
 def _walk(g: StageGraph, grp: PathGroup, n: int, y0: int, acc: dict, by_type: list) -> tuple[list, tuple]:

@@ -77,6 +77,7 @@ from .case import (
     read_document,
 )
 from .model import Case, Scenario, Uncertain
+from .plan import NoPlanError
 from .parallel import Progress, run_tasks
 
 #: fields whose values are whole numbers (sweep values are rounded for them)
@@ -352,16 +353,12 @@ def run_task(task: Mapping) -> dict:
     from .solve import solve
 
     try:
-        from .fleet import InfeasibleLimits
-    except ImportError:  # pragma: no cover - the fleet layer is part of the package
-        InfeasibleLimits = ()  # type: ignore[assignment]
-    try:
         doc = apply_overrides(task["doc"], task["set"], source=task["source"], where=task["where"])
         case = build_case(doc, source=task["source"])
         plan = solve(case, **{"progress": False, **task["options"]})
     except CaseError as exc:
         return {"status": "error", "message": str(exc), "present_cost": None}
-    except InfeasibleLimits as exc:  # type: ignore[misc]
+    except NoPlanError as exc:
         return {"status": "infeasible", "message": f"no plan: {exc}", "present_cost": None}
     d = plan.to_dict()
     out = {"status": plan.status, "present_cost": float(plan.present_cost), "gap": float(plan.gap),

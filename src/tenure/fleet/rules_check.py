@@ -13,10 +13,13 @@ from __future__ import annotations
 import dataclasses
 
 import numpy as np
+import scipy.sparse as sp
 
-from . import service
-from .model import Case
-from .plan import Plan
+from .. import service
+from ..model import Case
+from ..plan import InfeasibleLimits, Plan
+from .backend import Backend
+from .program import build_program
 from .rules_rows import class_sizes
 
 
@@ -37,46 +40,42 @@ def breaks(case: Case, plan: Plan) -> list[str]:
     return service.broken_rules(case, plan, required_sizes(case))
 
 
-def _short_rows(case: Case, graphs, time_limit: float):
-    """Rule rows needing slack in the elastic program: [(year, RuleRow)], or None when even
-    unlimited slack on the rules leaves no plan."""
-    from .fleet import _highs, build_program
-
+def _short_rows(case: Case, graphs, backend: type[Backend], time_limit: float):
+    """Rule rows needing slack in the elastic program: [(year, j, RuleRow)] sorted by year, or None
+    when even unlimited slack on the rules leaves no plan."""
     prog = build_program(case, graphs)
     n0, m = prog.n_cols, len(prog.rule_rows)
     if m == 0:
         return None
-    starts = list(prog.a_start)
-    index, value = list(prog.a_index), list(prog.a_value)
-    for r, rr in prog.rule_rows:
-        index.append(int(r))
-        value.append(1.0 if np.isfinite(rr.lo) else -1.0)
-        starts.append(len(index))
+    rows = np.array([r for r, _ in prog.rule_rows])
+    signs = np.array([1.0 if np.isfinite(rr.lo) else -1.0 for _, rr in prog.rule_rows])
+    extra = sp.csc_matrix((signs, (rows, np.arange(m))), shape=(prog.n_rows, m))
+    # the flows' cost only breaks ties; each unit or tonne short costs 1
     el = dataclasses.replace(prog, cost=np.concatenate([prog.cost * 1e-9, np.ones(m)]),
                              lower=np.concatenate([prog.lower, np.zeros(m)]),
                              upper=np.concatenate([prog.upper, np.full(m, np.inf)]),
-                             a_start=np.asarray(starts, dtype=np.int32), a_index=np.asarray(index, dtype=np.int32),
-                             a_value=np.asarray(value))
-    h = _highs(el, integer=True)
-    integ = np.concatenate([np.ones(n0, dtype=np.int32), np.zeros(m, dtype=np.int32)])
-    h.changeColsIntegrality(n0 + m, np.arange(n0 + m, dtype=np.int32), integ)
-    h.setOptionValue("time_limit", float(max(time_limit, 5.0)))
-    h.run()
-    if h.getInfo().primal_solution_status != 2:
+                             matrix=sp.hstack([prog.matrix, extra], format="csc"))
+    integrality = np.concatenate([np.ones(n0, dtype=np.int32), np.zeros(m, dtype=np.int32)])
+    res = backend(el, integrality).solve_mip(max(time_limit, 5.0), 1e-6)
+    if res.x is None:
         return None
-    x = np.asarray(h.getSolution().col_value)[n0:]
-    return sorted(((rr.year, j, rr) for j, ((_, rr), s) in enumerate(zip(prog.rule_rows, x)) if s > 1e-6),
+    slack = np.asarray(res.x)[n0:]
+    return sorted(((rr.year, j, rr) for j, ((_, rr), v) in enumerate(zip(prog.rule_rows, slack)) if v > 1e-6),
                   key=lambda c: (c[0], c[1]))
 
 
-def _reason(case: Case, rr, graphs, time_limit: float) -> str:
+def _feasible(case: Case, graphs, backend: type[Backend], time_limit: float) -> bool:
+    return backend(build_program(case, graphs)).solve_mip(max(time_limit, 5.0), 1.0).status != "infeasible"
+
+
+def _reason(case: Case, rr, graphs, backend, time_limit: float) -> str:
     y = rr.year
-    target = next((t for t in case.targets if rr.rule.startswith(t.label)), None)
+    target = next((t for t in case.targets if rr.rule.startswith(t.label + " (")), None)
     if target is not None and not any(case.type(t).buyable(y) for t in target.types):
         return f"no type of the list ({', '.join(target.types)}) can be bought in {y}"
     if case.budget is not None or case.limits:
         loose = dataclasses.replace(case, budget=None, limits=())
-        left = _short_rows(loose, graphs, time_limit)
+        left = _short_rows(loose, graphs, backend, time_limit)
         if left is not None and not any(r.rule == rr.rule and r.year == y for _, _, r in left):
             return "the capital caps and purchase limits leave too little room (it can be met without them)"
     if target is not None:
@@ -89,30 +88,30 @@ def _reason(case: Case, rr, graphs, time_limit: float) -> str:
     return "the units that must be in service then emit more, even when the cleanest types are bought"
 
 
-def diagnose(case: Case, graphs, time_limit: float) -> str | None:
+def diagnose(case: Case, graphs, backend: type[Backend], time_limit: float) -> str | None:
     """Why no plan keeps the rules: the rule, the first year it cannot be met, and the reason.
 
     None when the coupling rules are not the cause (the caps or limits alone are).
     """
-    rows = _short_rows(case, graphs, time_limit)
+    rows = _short_rows(case, graphs, backend, time_limit)
     if rows is None:
         if case.demands or case.orders:
             loose = dataclasses.replace(case, budget=None, limits=(), targets=(), emission_caps=())
-            if _short_rows(loose, graphs, time_limit) is None and not _feasible(loose, graphs, time_limit):
-                return ("the class sizes and orders cannot be kept in any year plan: [[demand]] asks for sales "
-                        "or purchases that min_age, max_age, buy_from/buy_until or the orders' replaces rule out")
+            if not _feasible(loose, graphs, backend, time_limit):
+                return ("the class sizes and orders cannot be kept by any plan: [[demand]] or an order asks for "
+                        "sales or purchases that min_age, max_age, buy_from/buy_until or the orders' replaces "
+                        "rule out")
         return None
     if not rows:
         return None
     _, _, rr = rows[0]
     what = f"target '{rr.rule}'" if rr.kind == "target" else f"the {rr.rule}"
-    return f"no plan meets {what} from {rr.year}: {_reason(case, rr, graphs, time_limit)}"
+    return f"no plan meets {what} from {rr.year}: {_reason(case, rr, graphs, backend, time_limit)}"
 
 
-def _feasible(case: Case, graphs, time_limit: float) -> bool:
-    from .fleet import _highs, _status_name, build_program
-
-    h = _highs(build_program(case, graphs), integer=True)
-    h.setOptionValue("time_limit", float(max(time_limit, 5.0)))
-    h.run()
-    return _status_name(h) != "Infeasible"
+def raise_if_impossible(case: Case, graphs, backend: type[Backend], time_limit: float) -> None:
+    """Raise :class:`~tenure.plan.InfeasibleLimits` (exit 3) naming the rule, year and reason when
+    the coupling rules are what no plan can keep."""
+    reason = diagnose(case, graphs, backend, time_limit)
+    if reason:
+        raise InfeasibleLimits(reason)

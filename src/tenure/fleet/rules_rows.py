@@ -24,7 +24,7 @@ from dataclasses import dataclass, field
 
 import numpy as np
 
-from .model import Case
+from ..model import Case
 
 INF = math.inf
 
@@ -191,6 +191,18 @@ def size_bound(case: Case, cls: str, start_count: int) -> float:
     return float(max(start_count, int(sizes.max(initial=0))))
 
 
+def place(b, case: Case, graphs: dict, cols: dict, starts: dict) -> tuple[tuple, dict]:
+    """Add the coupling rows to the program builder ``b``; returns ((row, RuleRow), …) and the
+    column lower bounds of orders and committed disposals."""
+    rules = rule_rows(case, graphs, cols, starts)
+    placed = []
+    for rr in rules.rows:
+        r = b.row(rr.lo, rr.hi)
+        b.put(r, rr.cols, rr.coefs)
+        placed.append((r, rr))
+    return tuple(placed), rules.col_lower
+
+
 def rule_rows(case: Case, graphs: dict, cols: dict, starts: dict) -> RuleRows:
     """The coupling rows and column bounds of the case's rules (see module docstring).
 
@@ -210,10 +222,7 @@ def rule_rows(case: Case, graphs: dict, cols: dict, starts: dict) -> RuleRows:
 def satisfies(prog, x: np.ndarray, tol: float = 1e-6) -> bool:
     """True when ``x`` meets every row and column bound of the program (a rounded plan is checked
     this way because fix-and-relax accepts its last year without an LP re-solve)."""
-    import scipy.sparse as sp
-
-    a = sp.csc_matrix((prog.a_value, prog.a_index, prog.a_start), shape=(prog.n_rows, prog.n_cols))
-    ax = a @ x
+    ax = prog.matrix @ x
     scale = tol * np.maximum(1.0, np.abs(ax))
     return bool(np.all(ax >= prog.row_lower - scale) and np.all(ax <= prog.row_upper + scale)
                 and np.all(x >= prog.lower - tol) and np.all(x <= prog.upper + tol))

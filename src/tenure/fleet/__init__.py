@@ -1,0 +1,24 @@
+"""Fleet plan under annual capital caps: the cohort-flow integer program.
+
+- :mod:`.program`   the program's arrays, built from the state graphs;
+- :mod:`.backend`   the operations every solver back end offers, and the registry;
+- :mod:`.highs`, :mod:`.cbc`  the back ends (HiGHS through highspy, CBC through pulp);
+- :mod:`.rounding`  fix-and-relax by year, guided by the LP;
+- :mod:`.shortfall` the elastic program for caps that no plan fits;
+- :mod:`.flows`     integral flows to unit paths;
+- :mod:`.driver`    :func:`solve_capped`, the same sequence for every back end.
+"""
+
+from ..plan import InfeasibleLimits, NoPlanError, NoPlanFound
+from .backend import BACKENDS, Backend, LPResult, MIPResult, get_backend
+from .driver import solve_capped
+from .flows import fits_caps, flows_to_groups
+from .highs import new_highs, watch_improvements
+from .program import CohortProgram, ColumnIndex, build_program
+from .rounding import fix_and_relax
+
+SOLVERS = BACKENDS
+
+__all__ = ["BACKENDS", "SOLVERS", "Backend", "CohortProgram", "ColumnIndex", "InfeasibleLimits", "LPResult",
+           "MIPResult", "NoPlanError", "NoPlanFound", "build_program", "fits_caps", "fix_and_relax",
+           "flows_to_groups", "get_backend", "new_highs", "solve_capped", "watch_improvements"]

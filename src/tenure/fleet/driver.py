@@ -1,0 +1,208 @@
+"""The capped fleet solve: the same sequence for every back end.
+
+1. The recursion without caps; if its plan fits every cap and limit it is
+   optimal and is returned as it is.
+2. The LP relaxation: a proven lower bound and the shadow price of each year's cap.
+3. Fix-and-relax by year, guided by the LP (:mod:`tenure.fleet.rounding`): a
+   feasible plan whose gap against the LP bound is usually well under 0.5 %.
+4. If the gap is still above the target, the integer program from that plan as
+   its start, for the time left.
+
+When no plan fits the caps, the elastic program (:mod:`tenure.fleet.shortfall`)
+finds the least extra capital per year that makes one fit, and the plan under
+the raised caps.
+"""
+
+from __future__ import annotations
+
+import math
+import sys
+import time
+from dataclasses import dataclass, field
+
+import numpy as np
+
+from .. import chain
+from ..model import Case
+from ..plan import Plan, Provenance, assemble
+from ..uncapped import build_graphs, solve_uncapped
+from .backend import Backend, get_backend
+from .flows import fits_caps, flows_to_groups
+from . import rules_check, rules_rows
+from .program import build_program
+from .rounding import fix_and_relax
+from .shortfall import shortfall
+
+INF = math.inf
+
+
+@dataclass
+class _Run:
+    """The state one solve carries from stage to stage."""
+
+    case: Case
+    backend: type[Backend]
+    t0: float
+    deadline: float
+    progress: bool
+    stats: dict = field(default_factory=dict)
+    graphs: dict = field(default_factory=dict)
+    sols: dict = field(default_factory=dict)
+    uncapped_cost: float = 0.0
+
+    def log(self, msg: str) -> None:
+        if self.progress:
+            print(f"  [{self.elapsed():6.1f} s] {msg}", file=sys.stderr, flush=True)
+
+    def elapsed(self) -> float:
+        return round(time.perf_counter() - self.t0, 3)
+
+
+def solve_capped(case: Case, backend: str = "highs", time_limit: float = 120.0, gap: float = 0.005,
+                 progress: bool = False, solver: str | None = None) -> Plan:
+    """Least-cost fleet plan under annual capital caps and purchase limits.
+
+    Parameters
+    ----------
+    case : Case
+    backend : str
+        Name of the solver back end (see :func:`tenure.fleet.backend.get_backend`); it runs
+        every stage.  ``solver`` is the same option under its former name.
+    time_limit : float
+        Seconds for the whole solve [s].
+    gap : float
+        Relative gap at which to stop (0.005 = 0.5 %).
+    progress : bool
+        Print one progress line per stage on stderr.
+
+    Returns
+    -------
+    Plan
+        status "optimal", "feasible" (with ``lower_bound`` and ``gap``), "infeasible" or
+        "unsolved" (with ``shortfall`` and the plan under the raised caps); ``provenance`` names
+        the method and back end behind the plan, its bound and its shadow prices.
+    """
+    name = solver if solver is not None else backend
+    t0 = time.perf_counter()
+    run = _Run(case, get_backend(name), t0, t0 + time_limit, progress, stats={"solver": name})
+    run.graphs = build_graphs(case)
+    run.sols = {c: chain.backward(g) for c, g in run.graphs.items()}
+    free = solve_uncapped(case, run.graphs, run.sols)
+    run.uncapped_cost = free.present_cost
+    if fits_caps(free, case) and not rules_check.breaks(case, free):
+        run.log("the uncapped plan fits every cap and limit: it is optimal")
+        run.stats.update(first_plan_seconds=run.elapsed(), caps_binding=False)
+        return free.with_(uncapped_cost=run.uncapped_cost, method="recursion (caps not binding)",
+                          stats={**free.stats, **run.stats},
+                          provenance=Provenance("backward recursion (the caps do not bind)",
+                                                "the plan itself (the recursion is exact)"))
+    return _solve_program(run, gap)
+
+
+def _solve_program(run: _Run, gap: float) -> Plan:
+    case, stats, label = run.case, run.stats, run.backend.label
+    prog = build_program(case, run.graphs)
+    stats.update(columns=prog.n_cols, rows=prog.n_rows)
+    run.log(f"cohort program: {prog.n_cols} columns, {prog.n_rows} rows")
+    be = run.backend(prog)
+    lp = be.solve_lp()
+    stats["lp_seconds"] = run.elapsed()
+    if lp.x is None:
+        run.log(f"LP relaxation: {lp.status} — diagnosing the shortfall")
+        return _infeasible(run, proven=lp.status == "infeasible")
+    lp_bound = float(prog.cost @ lp.x)
+    shadow = {case.study.start_year + k: float(max(0.0, -lp.row_duals[prog.cap_rows[k]]))
+              for k in range(case.study.horizon) if prog.cap_rows[k] >= 0}
+    run.log(f"LP bound {lp_bound:,.0f}")
+    best_x, best_cost, method = None, INF, f"fix-and-relax rounding of the LP relaxation ({label})"
+    if np.all(np.abs(lp.x - np.round(lp.x)) < 1e-7):
+        # a network flow (e.g. class sizes without caps or targets): the LP optimum is a whole-unit plan
+        xr = np.round(lp.x)
+        method = f"LP relaxation, integral ({label})"
+        run.log("the LP relaxation is integral: its plan is optimal")
+    else:
+        xr = fix_and_relax(prog, case, be, lp.x, run.deadline, run.log)
+    if xr is not None and case.coupled and not rules_rows.satisfies(prog, xr):
+        run.log("the rounded plan breaks a coupling row: the MIP solver takes over")
+        xr = None
+    if xr is not None:
+        best_x, best_cost = xr, float(prog.cost @ xr)
+        stats["first_plan_seconds"] = run.elapsed()
+        run.log(f"fix-and-relax plan {best_cost:,.0f} (gap {(best_cost - lp_bound) / abs(best_cost):.3%})")
+    bound, bound_from = lp_bound, f"LP relaxation ({label})"
+    history = stats.setdefault("gap_history", [])
+    cur_gap = (best_cost - bound) / abs(best_cost) if best_x is not None else INF
+    if best_x is not None:
+        history.append([run.elapsed(), cur_gap])
+    if cur_gap > gap and time.perf_counter() < run.deadline:
+        left = run.deadline - time.perf_counter()
+        run.log(f"MIP ({label}) for up to {left:.0f} s")
+        res = be.solve_mip(left, gap, best_x, _gap_recorder(run, history, lp_bound))
+        if res.x is not None:
+            xm = np.round(res.x)
+            cm = float(prog.cost @ xm)
+            if cm < best_cost:
+                best_x, best_cost = xm, cm
+                method = f"integer program ({label})" + (" from the fix-and-relax plan" if xr is not None else "")
+                stats.setdefault("first_plan_seconds", run.elapsed())
+            if res.bound is not None and res.bound > bound:
+                bound, bound_from = res.bound, f"integer program's dual bound ({label})"
+        elif res.status == "infeasible":
+            return _infeasible(run, proven=True)
+    if best_x is None:
+        stats["seconds"] = run.elapsed()
+        return _infeasible(run)
+    cur_gap = max(0.0, (best_cost - bound) / abs(best_cost))
+    history.append([run.elapsed(), cur_gap])
+    groups = flows_to_groups(prog, best_x, case, run.sols)
+    stats["seconds"] = run.elapsed()
+    plan = assemble(case, run.graphs, groups, status="optimal" if cur_gap <= 1e-9 else "feasible",
+                    method="integer program", lower_bound=min(bound, best_cost), uncapped_cost=run.uncapped_cost,
+                    shadow=shadow, message="shadow prices from the LP relaxation", stats=stats,
+                    provenance=Provenance(method, bound_from, f"LP relaxation ({label})"))
+    run.log(f"plan {plan.present_cost:,.0f}, gap {plan.gap:.3%}, status {plan.status}")
+    return plan
+
+
+def _gap_recorder(run: _Run, history: list, floor_bound: float):
+    """(seconds, gap) at each improving MIP point, against the better of its dual bound and the LP bound."""
+
+    def on_incumbent(obj: float, dual_bound: float) -> None:
+        bnd = max(dual_bound, floor_bound)
+        history.append([run.elapsed(), max(0.0, (obj - bnd) / max(abs(obj), 1e-9))])
+
+    return on_incumbent
+
+
+def _infeasible(run: _Run, proven: bool = False) -> Plan:
+    """The elastic diagnosis: shortfall by year, forcing units, and the plan under the raised caps.
+
+    ``proven``: the caller already proved that no plan fits (the LP relaxation
+    or the MIP solver said so).  Otherwise the status is "infeasible" only when
+    the elastic program proves that extra capital is needed, and "unsolved"
+    when it cannot tell within the time left.
+    """
+    case, stats = run.case, run.stats
+    left = max(5.0, run.deadline - time.perf_counter())
+    if case.coupled:
+        rules_check.raise_if_impossible(case, run.graphs, run.backend, left)
+    sf = shortfall(case, run.graphs, run.backend, left, run.uncapped_cost)
+    proven = proven or sf.proven
+    y0 = case.study.start_year
+    short = [(y0 + k, float(sf.extra[k])) for k in range(case.study.horizon) if sf.extra[k] > 0]
+    groups = flows_to_groups(sf.prog, sf.x, case, run.sols)
+    stats["seconds"] = run.elapsed()
+    if proven:
+        status, message = "infeasible", ("no plan fits the caps (proven); the plan shown fits the caps raised "
+                                         "by the shortfall")
+    else:
+        status, message = "unsolved", (f"no plan within the caps was found in {stats['seconds']:g} s and none is "
+                                       "proven impossible; raising the caps by the shortfall is enough for the "
+                                       "plan shown (a longer time limit may find a plan within the caps)")
+    plan = assemble(case, run.graphs, groups, status=status, method="integer program (elastic)",
+                    uncapped_cost=run.uncapped_cost, shortfall=short, message=message, stats=stats,
+                    provenance=Provenance(f"elastic integer program ({run.backend.label})"))
+    short_years = {y for y, _ in short}
+    forcing = [f"{u.unit} ({e.year}, age {e.from_age})" for u in plan.units for e in u.events
+               if e.year in short_years and e.from_age >= case.type(e.from_type).max_age]
+    return plan.with_(forcing_units=tuple(forcing))

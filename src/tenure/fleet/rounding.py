@@ -1,0 +1,215 @@
+"""Fix-and-relax by year, guided by the LP: a whole-unit plan from the LP relaxation.
+
+Year by year, the LP's sells and buys are rounded to whole units within that
+year's cap and limits, fixed (as column bounds of the back end's LP), and the LP
+is re-solved for the years after.  Written against :class:`~tenure.fleet.backend.Backend`,
+so every back end runs it.  A relax-and-fix scheme for lot sizing and scheduling
+(common practice): see e.g. L. A. Wolsey, *Integer Programming*, Wiley 1998, §12.
+"""
+
+from __future__ import annotations
+
+import math
+import time
+
+import numpy as np
+
+from ..model import Case
+from .backend import Backend
+from .program import CohortProgram
+
+INF = math.inf
+
+
+def _round_year(prog: CohortProgram, x: np.ndarray, k: int, case: Case, eager: int = 0) -> dict[int, float] | None:
+    """Whole-unit values for every column of year k, within its cap and limits; None if none found.
+
+    ``eager`` 0 rounds a fractional sale up from one half; 1 rounds every
+    fractional sale up while the cap allows (largest fraction first); 2 does
+    the same oldest state first.  Sales brought forward make room in the
+    years after, which is what a failed rounding usually lacks.
+    """
+    vals: dict[int, float] = {}
+    cands = []  # (frac, class, state) candidates for one more sale
+    per_class = {}
+    for cls, ci in prog.cols.items():
+        keep, sell = ci.keep[k], ci.sell[k]
+        sells = {}
+        for t, a in zip(*np.nonzero((sell >= 0) | (keep >= 0))):
+            t, a = int(t), int(a)
+            js, jk = int(sell[t, a]), int(keep[t, a])
+            n_in = (x[js] if js >= 0 else 0.0) + (x[jk] if jk >= 0 else 0.0)
+            n_in = float(round(n_in))
+            if jk < 0:
+                sv = n_in
+            else:
+                xs = x[js] if js >= 0 else 0.0
+                sv = float(math.floor(xs + 1e-6))
+                if js >= 0 and xs - sv > 1e-6 and sv + 1 <= n_in:
+                    cands.append((xs - sv, cls, (t, a)))
+            sells[(t, a)] = [sv, n_in]
+        per_class[cls] = sells
+    # decide extra sales: the LP's larger fractions first, while cap and limit allow
+    if eager == 2:
+        cands.sort(key=lambda c: (-c[2][1], -c[0], c[1], c[2]))
+    else:
+        cands.sort(key=lambda c: (-c[0], c[1], c[2]))
+    threshold = 0.5 if eager == 0 else 1e-6
+
+    def class_buys(cls, n_sell):
+        # purchases = sales + the class's size change that year (rules_rows.market_changes)
+        n_sell = max(0.0, n_sell + prog.market_rhs.get((cls, k), 0.0))
+        ci = prog.cols[cls]
+        g = prog.graphs[cls]
+        b = ci.buy[k]
+        idx = np.flatnonzero(b >= 0)
+        if n_sell == 0 or len(idx) == 0:
+            return {int(t): 0.0 for t in idx}
+        lp = np.array([x[b[t]] for t in idx])
+        base = np.floor(lp + 1e-6)
+        if base.sum() > n_sell:
+            base = np.zeros_like(base)
+        rem = n_sell - base.sum()
+        frac = lp - base
+        # largest remainder, cheaper type first on ties
+        order = sorted(range(len(idx)), key=lambda j: (-frac[j], g.price[k, idx[j]]))
+        for j in order:
+            if rem <= 0:
+                break
+            base[j] += 1
+            rem -= 1
+        if rem > 0:  # more sales than the LP planned buys: the rest buy the cheapest type
+            base[int(np.argmin([g.price[k, t] for t in idx]))] += rem
+        return {int(t): float(v) for t, v in zip(idx, base)}
+
+    def year_spend(choice):
+        tot = 0.0
+        for cls, sells in choice.items():
+            g = prog.graphs[cls]
+            n_sell = sum(v[0] for v in sells.values())
+            buys = class_buys(cls, n_sell)
+            tot += sum(g.price[k, t] * v for t, v in buys.items())
+            if case.budget is not None and case.budget.basis == "net":
+                tot -= sum(g.value[k, t, a] * v[0] for (t, a), v in sells.items())
+        return tot
+
+    cap_row = prog.cap_rows[k]
+    cap = prog.row_upper[cap_row] if cap_row >= 0 else INF
+
+    def limit_ok(cls, n_sell):
+        lim = case.limit_for(cls)
+        return lim is None or n_sell <= lim
+
+    def ok(choice):
+        for cls, sells in choice.items():
+            if not limit_ok(cls, sum(v[0] for v in sells.values()) + prog.market_rhs.get((cls, k), 0.0)):
+                return False
+        return year_spend(choice) <= cap + 1e-6
+
+    if not ok(per_class):
+        # the floors (and the forced sales) alone break the cap or limit: defer the least-forced sales
+        deferrable = []
+        for cls, sells in per_class.items():
+            for (t, a), v in sells.items():
+                jk = int(prog.cols[cls].keep[k][t, a])
+                js = int(prog.cols[cls].sell[k][t, a])
+                if jk >= 0 and v[0] > 0:
+                    deferrable.append((x[js] - v[0] + 1, cls, (t, a)))
+        deferrable.sort(key=lambda c: (c[0], c[1], c[2]))
+        for _, cls, st in deferrable:
+            while per_class[cls][st][0] > 0 and not ok(per_class):
+                per_class[cls][st][0] -= 1
+            if ok(per_class):
+                break
+        if not ok(per_class):
+            return None
+    for frac, cls, st in cands:
+        if frac < threshold:
+            continue
+        per_class[cls][st][0] += 1
+        if not ok(per_class):
+            per_class[cls][st][0] -= 1
+    for cls, sells in per_class.items():
+        ci = prog.cols[cls]
+        n_sell = 0.0
+        for (t, a), (sv, n_in) in sells.items():
+            js, jk = int(ci.sell[k][t, a]), int(ci.keep[k][t, a])
+            if js >= 0:
+                vals[js] = sv
+            if jk >= 0:
+                vals[jk] = n_in - sv
+            n_sell += sv
+        for t, v in class_buys(cls, n_sell).items():
+            vals[int(ci.buy[k][t])] = v
+    return vals
+
+
+def fix_and_relax(prog: CohortProgram, case: Case, be: Backend, x: np.ndarray, deadline: float, log=None,
+                  max_backtracks: int | None = None):
+    """Round the LP solution year by year, re-solving the LP for the later years.
+
+    A year is rounded as the LP suggests first, then more eagerly (see
+    :func:`_round_year`) when the later years would become infeasible; when no
+    rounding of a year works, the year before is undone and rounded more
+    eagerly (at most ``max_backtracks`` times, default twice the horizon).
+
+    Returns the integral solution vector, or None when no rounding is found
+    (the MIP solver then takes over).  The back end's column bounds are restored either way.
+    """
+    H = case.study.horizon
+    lower = prog.lower.copy()
+    upper = prog.upper.copy()
+    x = x.copy()
+    budget = 2 * H if max_backtracks is None else max_backtracks
+    stack: list[tuple[np.ndarray, np.ndarray, int, np.ndarray]] = []  # per fixed year: idx, values, mode, x before
+    k, first_mode, backtracks = 0, 0, 0
+    while k < H:
+        fixed = False
+        for eager in range(first_mode, 3):
+            if time.perf_counter() > deadline:
+                _release(be, stack, lower, upper)
+                return None
+            vals = _round_year(prog, x, k, case, eager)
+            if vals is None:
+                continue
+            idx = np.fromiter(vals.keys(), dtype=np.int32, count=len(vals))
+            v = np.fromiter(vals.values(), dtype=float, count=len(vals))
+            changed = bool(np.any(np.abs(x[idx] - v) > 1e-7))
+            be.set_bounds(idx, v, v)
+            if not changed or k == H - 1:
+                stack.append((idx, v, eager, x.copy()))
+                x[idx] = v
+                fixed = True
+                break
+            xn = be.solve_lp().x
+            if xn is not None:
+                stack.append((idx, v, eager, x))
+                x = xn
+                fixed = True
+                break
+            # undo this year's fixing and round more eagerly
+            be.set_bounds(idx, lower[idx], upper[idx])
+        if fixed:
+            k, first_mode = k + 1, 0
+            continue
+        if not stack or backtracks >= budget:
+            if log:
+                log(f"year {case.study.start_year + k}: no rounding keeps the later years feasible")
+            _release(be, stack, lower, upper)
+            return None
+        # undo the year before and round it more eagerly
+        idx, _, mode, x = stack.pop()
+        be.set_bounds(idx, lower[idx], upper[idx])
+        k, first_mode = k - 1, mode + 1
+        backtracks += 1
+    if log and backtracks:
+        log(f"fix-and-relax needed {backtracks} backtrack(s)")
+    _release(be, stack, lower, upper)
+    return np.round(x)
+
+
+def _release(be: Backend, stack: list, lower: np.ndarray, upper: np.ndarray) -> None:
+    """Give the fixed columns their own bounds back (the back end is left as it was loaded)."""
+    if stack:
+        idx = np.concatenate([s[0] for s in stack])
+        be.set_bounds(idx, lower[idx], upper[idx])
