@@ -186,6 +186,7 @@ def _infeasible(run: _Run, proven: bool = False) -> Plan:
     left = max(5.0, run.deadline - time.perf_counter())
     if case.coupled:
         rules_check.raise_if_impossible(case, run.graphs, run.backend, left)
+        left = max(5.0, run.deadline - time.perf_counter())
     sf = shortfall(case, run.graphs, run.backend, left, run.uncapped_cost)
     proven = proven or sf.proven
     y0 = case.study.start_year

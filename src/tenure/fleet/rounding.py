@@ -66,6 +66,8 @@ def _round_year(prog: CohortProgram, x: np.ndarray, k: int, case: Case, eager: i
         if n_sell == 0 or len(idx) == 0:
             return {int(t): 0.0 for t in idx}
         lp = np.array([x[b[t]] for t in idx])
+        if case.coupled:  # targets count types: follow the LP's mix, one unit at a time
+            return _follow_mix(lp, idx, g.price[k, idx], n_sell)
         base = np.floor(lp + 1e-6)
         if base.sum() > n_sell:
             base = np.zeros_like(base)
@@ -142,6 +144,16 @@ def _round_year(prog: CohortProgram, x: np.ndarray, k: int, case: Case, eager: i
         for t, v in class_buys(cls, n_sell).items():
             vals[int(ci.buy[k][t])] = v
     return vals
+
+
+def _follow_mix(lp: np.ndarray, idx: np.ndarray, price: np.ndarray, n_buy: float) -> dict[int, float]:
+    """``n_buy`` whole purchases spread over types ``idx``: each to the type with the most LP purchases
+    not yet given (cheaper first on ties), so a type the LP does not buy is bought only past its total."""
+    base = np.zeros(len(idx))
+    for _ in range(int(round(n_buy))):
+        j = min(range(len(idx)), key=lambda j: (-(lp[j] - base[j]), price[j]))
+        base[j] += 1
+    return {int(t): float(v) for t, v in zip(idx, base)}
 
 
 def fix_and_relax(prog: CohortProgram, case: Case, be: Backend, x: np.ndarray, deadline: float, log=None,

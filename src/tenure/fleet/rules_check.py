@@ -42,7 +42,10 @@ def breaks(case: Case, plan: Plan) -> list[str]:
 
 def _short_rows(case: Case, graphs, backend: type[Backend], time_limit: float):
     """Rule rows needing slack in the elastic program: [(year, j, RuleRow)] sorted by year, or None
-    when even unlimited slack on the rules leaves no plan."""
+    when even unlimited slack on the rules leaves no plan.
+
+    The LP relaxation is tried first (fast, and enough whenever the program's own LP has no
+    solution); the integer program, for ``time_limit`` [s], only when the LP needs no slack."""
     prog = build_program(case, graphs)
     n0, m = prog.n_cols, len(prog.rule_rows)
     if m == 0:
@@ -56,16 +59,25 @@ def _short_rows(case: Case, graphs, backend: type[Backend], time_limit: float):
                              upper=np.concatenate([prog.upper, np.full(m, np.inf)]),
                              matrix=sp.hstack([prog.matrix, extra], format="csc"))
     integrality = np.concatenate([np.ones(n0, dtype=np.int32), np.zeros(m, dtype=np.int32)])
-    res = backend(el, integrality).solve_mip(max(time_limit, 5.0), 1e-6)
-    if res.x is None:
+    be = backend(el, integrality)
+    lp = be.solve_lp()
+    if lp.x is None:
         return None
-    slack = np.asarray(res.x)[n0:]
+    slack = np.asarray(lp.x)[n0:]
+    if not np.any(slack > 1e-6):
+        res = be.solve_mip(max(time_limit, 2.0), 1e-4)
+        if res.x is None:
+            return None if res.status == "infeasible" else []
+        slack = np.asarray(res.x)[n0:]
     return sorted(((rr.year, j, rr) for j, ((_, rr), v) in enumerate(zip(prog.rule_rows, slack)) if v > 1e-6),
                   key=lambda c: (c[0], c[1]))
 
 
 def _feasible(case: Case, graphs, backend: type[Backend], time_limit: float) -> bool:
-    return backend(build_program(case, graphs)).solve_mip(max(time_limit, 5.0), 1.0).status != "infeasible"
+    be = backend(build_program(case, graphs))
+    if be.solve_lp().x is None:
+        return False
+    return be.solve_mip(max(time_limit, 2.0), 1.0).status != "infeasible"
 
 
 def _reason(case: Case, rr, graphs, backend, time_limit: float) -> str:
@@ -93,6 +105,7 @@ def diagnose(case: Case, graphs, backend: type[Backend], time_limit: float) -> s
 
     None when the coupling rules are not the cause (the caps or limits alone are).
     """
+    time_limit = time_limit / 3  # up to three programs are solved here
     rows = _short_rows(case, graphs, backend, time_limit)
     if rows is None:
         if case.demands or case.orders:

@@ -66,7 +66,8 @@ _RC = {
 }
 
 #: ids of the charts of a plan report, in page order
-PLAN_CHARTS = ("chart-capital", "chart-ages", "chart-types", "chart-eac", "chart-class-cost", "chart-cap-cost")
+PLAN_CHARTS = ("chart-capital", "chart-ages", "chart-types", "chart-eac", "chart-class-cost", "chart-emissions",
+               "chart-cap-cost")
 #: ids of the charts of a comparison report
 COMPARE_CHARTS = ("chart-compare-cost", "chart-compare-capital")
 

@@ -20,7 +20,7 @@ from typing import Any, Iterable, Sequence
 
 from .. import __version__
 from ..model import AssetType, Case
-from . import charts
+from . import charts, emissions, rules_view
 from .text import CAUTION
 
 CSS = """
@@ -442,6 +442,7 @@ def plan_charts(plan, case: Case, life_tables) -> list[tuple[str, str, str, str]
          "(purchases and O&M, less market values received and the end value).",
          charts.class_cost_chart(plan, case)),
     ]
+    out.append(emissions.chart_section(plan, case))
     cap_svg = charts.cap_cost_chart(plan, case)
     if cap_svg is not None:
         out.append(("chart-cap-cost", "Cost of each year's cap",
@@ -488,6 +489,7 @@ def plan_report(plan, case: Case, life_tables) -> str:
                 "at the end of the year. Room under cap is on the cap's basis.</p>"
                 + years_table_html(plan, case) + "</details>")
     body.append("</section>")
+    body.append(rules_view.rules_html(plan, case))
     body.append('<section id="assumptions"><h2>Assumptions</h2>')
     body.append(assumptions_html(case))
     body.append("</section>")

@@ -24,6 +24,7 @@ from openpyxl.utils import get_column_letter
 
 from .. import __version__
 from ..model import Case
+from . import rules_view
 from .text import CAUTION
 
 MONEY = "#,##0;-#,##0"
@@ -271,6 +272,7 @@ def workbook_bytes(plan, case: Case, solutions: dict | None = None) -> bytes:
     units_sheet(wb.create_sheet("units"), plan, case)
     policy_sheet(wb.create_sheet("policy"), case, solutions)
     assumptions_sheet(wb.create_sheet("assumptions"), case)
+    rules_view.rules_sheet(wb, plan, case)
     wb.properties.creator = f"tenure {__version__}"
     wb.properties.title = case.study.title
     buf = io.BytesIO()
