@@ -8,9 +8,9 @@ The fleet is ``fleetgen.invented_fleet(1000, 20, seed 7)`` with the cap of ``ben
   newer types a tenth of that;
 * a ``[[target]]``: ``share_of_buys`` of the newer types from the year every newer type can be
   bought, in the classes that have one;
-* ``[[emission_cap]]`` blocks, one a year from year 10 on, each at a fraction of the cap-only plan's
-  tonnes of that year (the capital cap leaves little room: at 0.99 no plan exists, at 0.995 the
-  caps bind and cost money).
+* an ``[[emission_cap]]``: either one cap from year 15 on at a fraction of the cap-only plan's
+  tonnes that year, or one cap a year from year 10 on, each at a fraction of that year's tonnes
+  (the capital cap leaves little room to cut emissions: one cap a year at 0.99 has no plan).
 
 Each case is run as ``tenure plan CASE --out DIR --quiet --time-limit 60`` in a subprocess (as in
 ``bench_fleet.py``); times come from ``plan.json`` ``stats``. Usage::
@@ -35,9 +35,13 @@ from bench_fleet import _toml_value, machine, write_case  # noqa: E402
 from fleetgen import capped_case, invented_fleet  # noqa: E402
 
 TIME_LIMIT = 60.0
-#: (label, share_of_buys, emission-cap fraction of the capped plan's tonnes)
-RUNS = (("capital cap only", None, None), ("+ target 1.0", 1.0, None), ("+ emission caps 0.995", None, 0.995),
-        ("+ target 1.0 + emission caps 0.995", 1.0, 0.995), ("+ target 0.5 + emission caps 0.997", 0.5, 0.997))
+#: (label, share_of_buys, emission-cap fraction of the cap-only plan's tonnes, "flat" or "yearly", capital cap)
+RUNS = (("capital cap only", None, None, None, True),
+        ("+ target 1.0", 1.0, None, None, True),
+        ("+ emission cap 0.99 from year 15", None, 0.99, "flat", True),
+        ("+ target 1.0 + emission cap 0.99 from year 15", 1.0, 0.99, "flat", True),
+        ("+ target 1.0 + yearly emission caps 0.995 from year 10", 1.0, 0.995, "yearly", True),
+        ("no capital cap, target 1.0 + yearly emission caps 0.97 from year 10", 1.0, 0.97, "yearly", False))
 
 
 def with_emissions(doc: dict) -> dict:
@@ -51,7 +55,7 @@ def with_emissions(doc: dict) -> dict:
     return out
 
 
-def rules_case(doc: dict, share, cap_fraction, tonnes_by_year) -> tuple[dict, list[str]]:
+def rules_case(doc: dict, share, cap_fraction, tonnes_by_year, form="yearly") -> tuple[dict, list[str]]:
     """The extra TOML blocks of one run."""
     newer = [t for t in doc["asset_type"] if t["id"].endswith("-b")]
     start = doc["study"]["start_year"]
@@ -60,7 +64,9 @@ def rules_case(doc: dict, share, cap_fraction, tonnes_by_year) -> tuple[dict, li
         y = max(t["buy_from"] for t in newer)
         lines += ["", "[[target]]", 'name = "newer types"', f"types = {_toml_value([t['id'] for t in newer])}",
                   f"share_of_buys = {share}", f"from = {y}"]
-    if cap_fraction is not None:
+    if cap_fraction is not None and form == "flat":
+        lines += ["", "[[emission_cap]]", f"from = {start + 15}", f"tonnes = {round(cap_fraction * tonnes_by_year[15], 1)}"]
+    elif cap_fraction is not None:
         for k in range(10, len(tonnes_by_year)):
             lines += ["", "[[emission_cap]]", f"from = {start + k}", f"until = {start + k}",
                       f"tonnes = {round(cap_fraction * tonnes_by_year[k], 1)}"]
@@ -124,8 +130,9 @@ def main(argv=None) -> int:
     base = solve(build_case(doc), time_limit=TIME_LIMIT)
     tonnes = [y.tonnes for y in base.years]
     rows = []
-    for label, share, frac in RUNS:
-        d, extra = rules_case(doc, share, frac, tonnes)
+    for label, share, frac, form, capped in RUNS:
+        d = doc if capped else {k: v for k, v in doc.items() if k != "budget"}
+        d, extra = rules_case(d, share, frac, tonnes, form)
         with tempfile.TemporaryDirectory(prefix="tenure-bench-rules-") as tmp:
             r = run(d, extra, Path(tmp))
         rows.append((label, r))
@@ -138,8 +145,8 @@ def main(argv=None) -> int:
             "`python benchmarks/bench_rules.py` — the 1,000-unit, 20-class invented fleet of `bench_fleet.py` "
             "(seed 7, 30 years, gross cap at the uncapped plan's average yearly spend) with invented emissions; "
             "the target is `share_of_buys` of the newer types from the year every newer type can be bought; "
-            "one emission cap a year from year 10 on, each at the stated fraction of the cap-only plan's "
-            f"tonnes that year. Each run is the whole `tenure plan` command, time limit {TIME_LIMIT:g} s, gap target 0.5 %. "
+            "the emission cap is one cap from year 15 on (flat) or one cap a year from year 10 on (yearly), at "
+            f"the stated fraction of the cap-only plan's tonnes. Each run is the whole `tenure plan` command, time limit {TIME_LIMIT:g} s, gap target 0.5 %. "
             "Times are from the start of the solve (`plan.json` stats); wall time includes start-up and "
             "writing every output.\n\n" + md + "\n")
     print(text)

@@ -509,3 +509,16 @@ def test_version_1_case_without_new_keys_reads_as_before():
     case = build_case(rules_doc())
     assert case.study.inflation == 0.0 and case.study.carbon_price == 0.0 and not case.coupled
     assert list(itertools.chain.from_iterable([case.demands, case.orders, case.targets])) == []
+
+
+def test_recost_of_a_plan_under_its_own_carbon_price_equals_its_present_cost():
+    # scenarios.recost prices a schedule straight from tenure.curves; with a carbon price it must
+    # agree with the solver's present cost of the same plan (the same timing, docs/conventions.md)
+    from tenure.scenarios import recost
+
+    case = build_case(rules_doc(study={"carbon_price": 90.0}))
+    plan = solve(case)
+    rc = recost(plan.to_dict(), case)
+    assert rc.cost == pytest.approx(plan.present_cost, rel=1e-9) and not rc.breaks
+    plain = solve(build_case(rules_doc()))
+    assert plan.present_cost > plain.present_cost + 1.0  # the carbon line is really priced

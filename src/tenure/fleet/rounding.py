@@ -56,7 +56,16 @@ def _round_year(prog: CohortProgram, x: np.ndarray, k: int, case: Case, eager: i
         cands.sort(key=lambda c: (-c[0], c[1], c[2]))
     threshold = 0.5 if eager == 0 else 1e-6
 
+    memo: dict = {}
+
     def class_buys(cls, n_sell):
+        # a pure function of (class, sales) within the year: cached, as ok() asks it again and again
+        key = (cls, n_sell)
+        if key not in memo:
+            memo[key] = _class_buys(cls, n_sell)
+        return dict(memo[key])
+
+    def _class_buys(cls, n_sell):
         # purchases = sales + the class's size change that year (rules_rows.market_changes)
         n_sell = max(0.0, n_sell + prog.market_rhs.get((cls, k), 0.0))
         ci = prog.cols[cls]
