@@ -40,7 +40,7 @@ def breaks(case: Case, plan: Plan) -> list[str]:
     return service.broken_rules(case, plan, required_sizes(case))
 
 
-def _short_rows(case: Case, graphs, backend: type[Backend], time_limit: float):
+def _short_rows(case: Case, graphs, backend: type[Backend], time_limit: float, mip: bool = True):
     """Rule rows needing slack in the elastic program: [(year, j, RuleRow)] sorted by year, or None
     when even unlimited slack on the rules leaves no plan.
 
@@ -64,7 +64,7 @@ def _short_rows(case: Case, graphs, backend: type[Backend], time_limit: float):
     if lp.x is None:
         return None
     slack = np.asarray(lp.x)[n0:]
-    if not np.any(slack > 1e-6):
+    if mip and not np.any(slack > 1e-6):
         res = be.solve_mip(max(time_limit, 2.0), 1e-4)
         if res.x is None:
             return None if res.status == "infeasible" else []
@@ -87,7 +87,7 @@ def _reason(case: Case, rr, graphs, backend, time_limit: float) -> str:
         return f"no type of the list ({', '.join(target.types)}) can be bought in {y}"
     if case.budget is not None or case.limits:
         loose = dataclasses.replace(case, budget=None, limits=())
-        left = _short_rows(loose, graphs, backend, time_limit)
+        left = _short_rows(loose, graphs, backend, time_limit, mip=False)  # the LP answers "without them"
         if left is not None and not any(r.rule == rr.rule and r.year == y for _, _, r in left):
             return "the capital caps and purchase limits leave too little room (it can be met without them)"
     if target is not None:
