@@ -30,7 +30,6 @@ from test_chain import PROPERTY, Y0, all_starts, case_doc, close
 from casekit import base_doc
 from tenure import chain, curves, life, tax
 from tenure.case import CaseError, build_case
-from tenure.chain import KEEP
 from tenure.model import AssetType, Depreciation, OMCurve, ValueCurve
 from tenure.solve import solve
 

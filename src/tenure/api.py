@@ -104,7 +104,8 @@ def life_tables(case: Case, type_id: str | None = None, year: int | None = None,
     s = case.study
     chosen = [case.type(type_id)] if type_id else [t for t in case.types if t.buyable(year)] or list(case.types)
     # a taxed case gives after-tax tables (docs/conventions.md, "Income tax")
-    return [life_table(t, s.discount_rate, s.start_year, year, tolerance, tax_rate=s.tax_rate) for t in chosen]
+    return [life_table(t, s.discount_rate, s.start_year, year, tolerance, tax_rate=s.tax_rate,
+                       carbon_price=s.carbon_price) for t in chosen]
 
 
 def economic_life(case: Case, type_id: str, year: int | None = None, tolerance: float = DEFAULT_TOLERANCE):

@@ -50,6 +50,10 @@ if TYPE_CHECKING:  # networkx loads only when the view is built (tests, benchmar
     import networkx as nx
 
 KEEP = -1
+#: action of a unit sold without a replacement (a class shrinks or a committed disposal); its path ends
+SELL = -2
+#: type and age of the first step of a unit bought without a sale (a class grows or an order adds)
+NEW = -1
 #: relative tolerance under which two costs count as tied (keep wins, then case order)
 TIE = 1e-9
 
@@ -95,6 +99,16 @@ class StageGraph:
         and the yearly totals use.
     book : ndarray (H+1, T, A+1) or None
         Book value of a unit of age a at time k (after tax only).
+    sellable : bool ndarray (T, A+1)
+        Ages at which a unit may be sold or replaced (a ≥ min_age; the states that exist come from ``valid`` and reachability, so an overdue unit
+        sells at time 0).
+    tonnes_keep : ndarray (H, T, A+1)
+        Tonnes CO2e emitted in year k by a unit of age a kept through it [t].
+    tonnes_new : ndarray (H, T)
+        Tonnes CO2e emitted in year k by a unit bought at time k [t].
+    carbon_price : float
+        Money per tonne [money/t]; ``keep_pw`` and ``buy_pw`` include
+        ``carbon_price·tonnes`` paid at k+1, like O&M.
     """
 
     class_: str
@@ -118,6 +132,10 @@ class StageGraph:
     chain_type: str | None = None
     tax_rate: float | None = None
     book: np.ndarray | None = field(default=None, repr=False)
+    sellable: np.ndarray | None = None
+    tonnes_keep: np.ndarray | None = None
+    tonnes_new: np.ndarray | None = None
+    carbon_price: float = 0.0
 
     @property
     def ages(self) -> int:
@@ -179,11 +197,19 @@ def build_class_graph(case: Case, class_: str) -> StageGraph:
     value = np.stack([np.asarray(curves.market_value(t, ages[None, :], (y0 + kk)[:, None], y0)) for t in types],
                      axis=1)
     value = np.where(valid[None, :, :] | (kk == 0)[:, None, None], value, 0.0)
+    min_age = np.array([t.min_age for t in types])
+    sellable = ages[None, :] >= min_age[:, None]
+    tonnes_keep = np.stack([np.asarray(curves.tonnes(t, vint, y0)) for t in types], axis=1)
+    tonnes_keep = np.where(keep_ok[None, :, :], tonnes_keep, 0.0)
+    tonnes_new = np.stack([np.asarray(curves.tonnes(t, years, y0)) * np.ones(H) for t in types], axis=1)
+    cp = s.carbon_price
 
     v = np.asarray(money.pf(i, kk))
-    keep_cash, new_cash, sale_cash, book = om_keep, om_new, value, None
+    # priced tonnes are paid at the end of each service year, like O&M (docs/conventions.md); with a tax
+    # rate they are deducted like O&M
+    keep_cash, new_cash, sale_cash, book = om_keep + cp * tonnes_keep, om_new + cp * tonnes_new, value, None
     if s.tax_rate is not None:
-        keep_cash, new_cash, sale_cash, book = _after_tax_cash(case, types, om_keep, om_new, value, valid)
+        keep_cash, new_cash, sale_cash, book = _after_tax_cash(case, types, keep_cash, new_cash, value, valid)
     keep_pw = keep_cash * v[1:, None, None]
     buy_pw = np.where(buyable, price * v[:H, None] + new_cash * v[1:, None], np.inf)
     sale_pw = sale_cash * v[:, None, None]
@@ -197,7 +223,7 @@ def build_class_graph(case: Case, class_: str) -> StageGraph:
         best = None
         for t in types:
             if t.buyable(y_end - 1):
-                c, _ = life.capitalised_chain_cost(t, i, y0, y_end, tax_rate=s.tax_rate)
+                c, _ = life.capitalised_chain_cost(t, i, y0, y_end, tax_rate=s.tax_rate, carbon_price=s.carbon_price)
                 if best is None or c < best[0] - TIE * abs(c):
                     best = (c, t.id)
         chain_cost, chain_type = best
@@ -205,13 +231,14 @@ def build_class_graph(case: Case, class_: str) -> StageGraph:
         for j, t in enumerate(types):
             a = np.arange(t.max_age + 1)
             end_pw[j, : t.max_age + 1] = life.continuing_costs(t, a, y_end - a, chain_cost, i, y0, y_end,
-                                                               tax_rate=s.tax_rate) * v[H]
+                                                               tax_rate=s.tax_rate, carbon_price=s.carbon_price) * v[H]
     end_pw = np.where(valid, end_pw, np.inf)
     return StageGraph(class_=class_, types=tuple(t.id for t in types), max_age=max_age, start_year=y0, horizon=H,
                       rate=i, buyable=buyable, price=price, om_new=om_new, om_keep=om_keep, value=value,
                       keep_pw=keep_pw, buy_pw=buy_pw, sale_pw=sale_pw, end_pw=end_pw, valid=valid,
                       end_value=s.end_value, chain_cost=chain_cost, chain_type=chain_type, tax_rate=s.tax_rate,
-                      book=book)
+                      book=book, sellable=sellable, tonnes_keep=tonnes_keep, tonnes_new=tonnes_new,
+                      carbon_price=cp)
 
 
 def _after_tax_cash(case: Case, types, om_keep, om_new, value, valid):
@@ -323,6 +350,7 @@ def backward(g: StageGraph, buy_pw: np.ndarray | None = None, sale_pw: np.ndarra
     keep_pw = g.keep_pw[:, :, :-1]
     tol = _tie_tolerance(g, buy)
     use_keep = np.empty((T, A1), dtype=bool)
+    no_sale = None if g.sellable is None or g.sellable[g.valid].all() else ~g.sellable & g.valid
     rep_tol = np.empty((T, A1))
     # Values of ages past a type's max age are never read by a valid state (their keep arcs
     # are inf and purchases enter at age 1), so they are masked once after the loop.
@@ -332,6 +360,8 @@ def backward(g: StageGraph, buy_pw: np.ndarray | None = None, sale_pw: np.ndarra
         np.add(keep_pw[k], nxt[:, 1:], out=keep[:, :-1])
         j, b = _first_min(buy[k] + nxt[:, 1])
         np.subtract(b, sale[k], out=rep)
+        if no_sale is not None:  # below min_age: no replace arc
+            rep[no_sale] = np.inf
         np.add(rep, tol, out=rep_tol)
         np.less_equal(keep, rep_tol, out=use_keep)
         np.copyto(V[k], rep)
@@ -350,7 +380,7 @@ class Step:
     k: int
     type: int
     age: int
-    action: int  # KEEP or index of the type bought
+    action: int  # KEEP, SELL or index of the type bought; type = age = NEW for a unit bought from nothing
 
 
 def follow(sol: ChainSolution, t: int, a: int, k0: int = 0) -> list[Step]:
@@ -371,8 +401,11 @@ def path_cost(g: StageGraph, steps: list[Step]) -> float:
         if st.action == KEEP:
             total += g.keep_pw[st.k, st.type, st.age]
             t, a = st.type, st.age + 1
+        elif st.action == SELL:
+            return float(total - g.sale_pw[st.k, st.type, st.age])
         else:
-            total += g.buy_pw[st.k, st.action] - g.sale_pw[st.k, st.type, st.age]
+            sale = 0.0 if st.type == NEW else g.sale_pw[st.k, st.type, st.age]
+            total += g.buy_pw[st.k, st.action] - sale
             t, a = st.action, 1
     if t is None:
         return float("nan")
@@ -399,6 +432,9 @@ def flexibility(sol: ChainSolution, steps: list[Step]) -> list[tuple[float | Non
     out = []
     for idx, st in enumerate(steps):
         if st.action == KEEP:
+            continue
+        if st.action == SELL or st.type == NEW:  # no defer/advance for a purchase or sale without its pair
+            out.append((None, None))
             continue
         k, t, a = st.k, st.type, st.age
         # base: replace now, then the best chain (equals the value on an optimal path)
@@ -447,7 +483,7 @@ def to_networkx(g: StageGraph, starts) -> nx.DiGraph:
             if a < g.max_age[t]:
                 G.add_edge(u, (k + 1, names[t], a + 1), weight=float(g.keep_pw[k, t, a]), outlay=0.0,
                            proceeds=0.0, action="keep")
-            for t2 in buy_types.tolist():
+            for t2 in (buy_types.tolist() if g.sellable is None or g.sellable[t, a] else []):
                 G.add_edge(u, (k + 1, names[t2], 1), weight=float(g.buy_pw[k, t2] - g.sale_pw[k, t, a]),
                            outlay=float(g.price[k, t2]), proceeds=float(g.value[k, t, a]), action="replace")
     ts, as_ = np.nonzero(r[H])

@@ -163,8 +163,16 @@ def cmd_life(args) -> int:
                                                   f"{tax_rate:.1%}, {taxnote.depreciation_label(t)}{note}"))
             continue
         print(text.life_text(lt, f"Economic life of {lt.type} ({t.class_}), bought {year}, "
-                                 f"rate {case.study.discount_rate:.2%}{note}"))
+                                 f"rate {case.study.discount_rate:.2%}{_rate_note(case)}{note}"))
     return 0
+
+
+def _rate_note(case) -> str:
+    """How a real rate was derived from a nominal one (Fisher relation), for printing."""
+    s = case.study
+    if s.rate_basis != "nominal":
+        return ""
+    return f" real = (1 + {s.nominal_rate:.2%} nominal)/(1 + {s.inflation:.2%} inflation) − 1"
 
 
 def cmd_fit(args) -> int:
@@ -207,8 +215,9 @@ def _life_compare_tax(case, chosen, year, args) -> int:
     if s.tax_rate is None:
         raise UsageError(f"--compare-tax: {case.source} has no [study] tax_rate, so there is no after-tax "
                          "analysis to compare (add tax_rate and a depreciation method per type)")
-    pairs = [(life_table(t, s.discount_rate, s.start_year, year, args.tolerance),
-              life_table(t, s.discount_rate, s.start_year, year, args.tolerance, tax_rate=s.tax_rate))
+    pairs = [(life_table(t, s.discount_rate, s.start_year, year, args.tolerance, carbon_price=s.carbon_price),
+              life_table(t, s.discount_rate, s.start_year, year, args.tolerance, tax_rate=s.tax_rate,
+                         carbon_price=s.carbon_price))
              for t in chosen]
     if args.json:
         print(json.dumps([{"before_tax": b.to_dict(), "after_tax": a.to_dict()} for b, a in pairs], indent=2))

@@ -97,3 +97,14 @@ def market_value(t: AssetType, age, year, start_year: int):
     """
     out = np.asarray(value_fraction(t.salvage, age, t.price)) * np.asarray(price(t, year, start_year))
     return out if out.ndim else float(out)
+
+
+def tonnes(t: AssetType, vintage, start_year: int):
+    """Tonnes CO2e per year of service of a unit of type ``t`` and ``vintage`` [t/year].
+
+    ``first·(1+change)^(vintage − start_year)``; independent of age.
+    """
+    v = np.asarray(vintage, dtype=float)
+    out = t.emissions.first * (1.0 + t.emissions.change) ** (v - start_year)
+    out = np.asarray(out, dtype=float)
+    return out if out.ndim else float(out)

@@ -189,7 +189,8 @@ def _argmin_first(x: np.ndarray) -> int:
 
 
 def life_table(t: AssetType, rate: float, start_year: int, year: int | None = None,
-               tolerance: float = DEFAULT_TOLERANCE, frozen: bool = False, tax_rate: float | None = None) -> LifeTable:
+               tolerance: float = DEFAULT_TOLERANCE, frozen: bool = False, tax_rate: float | None = None,
+               carbon_price: float = 0.0) -> LifeTable:
     """EAC by holding period for a unit of type ``t`` bought in ``year``.
 
     Parameters
@@ -210,13 +211,19 @@ def life_table(t: AssetType, rate: float, start_year: int, year: int | None = No
     tax_rate : float, optional
         Income-tax rate; when given the table is after tax (the type needs a
         depreciation method) and ``rate`` is the after-tax discount rate.
+    carbon_price : float
+        Money per tonne CO2e [money/t]; the unit's priced tonnes are added to each
+        service year's O&M ``c_a``.
+
+    A type's ``min_age`` N₀ removes holding periods shorter than N₀ from the
+    choice: the economic life and its band start at N₀ (the rows are still listed).
     """
     year = start_year if year is None else year
     n = np.arange(1, t.max_age + 1)
     p = curves.price(t, year, start_year)
     sale_year = np.full(n.shape, year) if frozen else year + n
     s = np.asarray(curves.market_value(t, n, sale_year, start_year))
-    c = np.asarray(curves.om(t, n, year, start_year))
+    c = np.asarray(curves.om(t, n, year, start_year)) + carbon_price * curves.tonnes(t, year, start_year)
     shield_eac = None
     if tax_rate is not None:
         # the basis is the purchase price p, also when later sales follow later prices
@@ -230,14 +237,16 @@ def life_table(t: AssetType, rate: float, start_year: int, year: int | None = No
     if tax_rate is not None:
         total = total + shield_eac
         mc = marginal_costs(p, s, c_net, rate)
-    best = _argmin_first(total)
+    first = max(t.min_age, 1) - 1  # holding periods shorter than min_age are not allowed
+    best = first + _argmin_first(total[first:])
+    lo, hi = _band(total[first:], best - first, tolerance)
     return LifeTable(type=t.id, year=year, years=n, eac_capital=cap, eac_om=om_eac, eac_total=total, marginal=mc,
-                     economic_life=best + 1, min_eac=float(total[best]), band=_band(total, best, tolerance),
+                     economic_life=best + 1, min_eac=float(total[best]), band=(lo + first, hi + first),
                      tolerance=tolerance, tax_rate=tax_rate, eac_shield=shield_eac)
 
 
 def capitalised_chain_cost(t: AssetType, rate: float, start_year: int, year: int,
-                           tax_rate: float | None = None) -> tuple[float, int]:
+                           tax_rate: float | None = None, carbon_price: float = 0.0) -> tuple[float, int]:
     """Present cost at time ``year`` of an endless chain of new units of ``t`` [money].
 
     All prices, values and O&M frozen at ``year``; each unit is kept for its
@@ -254,7 +263,7 @@ def capitalised_chain_cost(t: AssetType, rate: float, start_year: int, year: int
     """
     if rate <= 0:
         raise ValueError(f"capitalised cost needs discount rate > 0, got {rate!r}")
-    lt = life_table(t, rate, start_year, year, frozen=True, tax_rate=tax_rate)
+    lt = life_table(t, rate, start_year, year, frozen=True, tax_rate=tax_rate, carbon_price=carbon_price)
     return lt.min_eac / rate, lt.economic_life
 
 
@@ -283,22 +292,24 @@ def vintage_of(year: int, age):
 
 
 def continuing_costs(held: AssetType, ages, vintages, chain_cost: float, rate: float, start_year: int,
-                     year: int, tax_rate: float | None = None) -> np.ndarray:
+                     year: int, tax_rate: float | None = None, carbon_price: float = 0.0) -> np.ndarray:
     """Vector form of :func:`continuing_cost` over ``ages`` (with their ``vintages``) [money].
 
     Evaluated on an (age × years kept) grid at once; cells past the max age are
-    masked out of the minimum.
+    masked out of the minimum, and so are sales before the type's ``min_age``.
+    ``carbon_price`` [money/t] adds the unit's priced tonnes to each year's O&M.
     """
     ages = np.asarray(ages, dtype=int)
     vintages = np.asarray(vintages)
     a = ages.ravel()[:, None]
     v = vintages.ravel()[:, None]
     n = np.arange(0, held.max_age + 1)[None, :]
-    ok = a + n <= held.max_age
+    ok = (a + n <= held.max_age) & (a + n >= held.min_age)
     served = np.minimum(a + n, held.max_age)  # service year a+n, clipped where masked
     disc = np.asarray(money.pf(rate, np.arange(0, held.max_age + 1)))[None, :]
     # O&M of service year a+j paid j years on (j = 1 … n): cumulative over the grid's columns
-    om_year = np.asarray(curves.om(held, np.maximum(served, 1), v, start_year))
+    om_year = np.asarray(curves.om(held, np.maximum(served, 1), v, start_year)) + carbon_price * np.asarray(
+        curves.tonnes(held, v, start_year))
     if tax_rate is not None:
         om_year = np.asarray(tax.keep_cash(held, tax_rate, om_year, np.maximum(served, 1), v, start_year))
     om_pw = np.where(n >= 1, om_year * disc, 0.0)

@@ -18,6 +18,9 @@ BUDGET_BASES = ("gross", "net")
 DEPRECIATION_METHODS = ("straight-line", "declining-balance", "table", "macrs")
 #: MACRS GDS recovery periods with a half-year table (IRS Publication 946, Table A-1)
 MACRS_RECOVERY_YEARS = (3, 5, 7, 10, 15, 20)
+#: allowed money bases of the caps and of the discount rate (docs/conventions.md, "Nominal money")
+MONEY_BASES = ("constant", "nominal")
+RATE_BASES = ("real", "nominal")
 
 
 @dataclass(frozen=True)
@@ -38,6 +41,16 @@ class Study:
         ``"salvage"`` or ``"continuing"``.
     tax_rate : float or None
         Combined marginal income-tax rate [-]; None for a before-tax analysis.
+    inflation : float
+        General inflation per year [1/year], converting constant and nominal money.
+    rate_basis : str
+        ``"real"`` or ``"nominal"``: how the case file stated the rate.  ``discount_rate``
+        is always the real rate the solvers use; with ``"nominal"`` it was derived by the
+        Fisher relation from ``nominal_rate``.
+    nominal_rate : float or None
+        The stated nominal rate [1/year] when ``rate_basis = "nominal"``.
+    carbon_price : float
+        Money per tonne CO2e, constant currency, paid with each service year's O&M.
     """
 
     title: str
@@ -45,7 +58,15 @@ class Study:
     horizon: int
     discount_rate: float
     end_value: str = "salvage"
+    inflation: float = 0.0
+    rate_basis: str = "real"
+    nominal_rate: float | None = None
+    carbon_price: float = 0.0
     tax_rate: float | None = None
+
+    def deflator(self, year: int) -> float:
+        """Constant money per unit of nominal money of calendar ``year``: ``1/(1+inflation)^k``."""
+        return (1.0 + self.inflation) ** -(year - self.start_year)
 
     @property
     def years(self) -> range:
@@ -118,6 +139,15 @@ class Depreciation:
 
 
 @dataclass(frozen=True)
+class Emissions:
+    """Tonnes CO2e per unit-year of service: ``first`` for the start-year vintage, changing
+    geometrically by ``change`` per later vintage [t/year]."""
+
+    first: float = 0.0
+    change: float = 0.0
+
+
+@dataclass(frozen=True)
 class AssetType:
     """A model of unit that can be held, and perhaps bought.
 
@@ -139,6 +169,10 @@ class AssetType:
     salvage : ValueCurve
     depreciation : Depreciation or None
         Tax depreciation; used only when ``Study.tax_rate`` is set.
+    min_age : int
+        No unit of this type is sold or replaced before this age [years] (0: no minimum).
+    emissions : Emissions
+        Tonnes CO2e per unit-year of service by vintage.
     """
 
     id: str
@@ -151,6 +185,8 @@ class AssetType:
     om_change: float = 0.0
     buy_from: int | None = None
     buy_until: int | None = None
+    min_age: int = 0
+    emissions: Emissions = Emissions()
     depreciation: Depreciation | None = None
 
     def buyable(self, year: int) -> bool:
@@ -199,16 +235,31 @@ class Budget:
     ``cap`` applies to every planning year without an entry in
     ``cap_by_year`` (calendar year → cap); ``None`` means uncapped.
     ``basis`` is ``"gross"`` (purchase prices) or ``"net"`` (purchase prices
-    less market value of the units sold that year).
+    less market value of the units sold that year).  ``money`` is the currency
+    the caps are stated in: ``"constant"`` (start-year money) or ``"nominal"``
+    (then-year money, deflated by ``inflation`` from ``start_year``).
     """
 
     cap: float | None = None
     cap_by_year: Mapping[int, float] = field(default_factory=dict)
     basis: str = "gross"
+    money: str = "constant"
+    inflation: float = 0.0
+    start_year: int = 0
+
+    def stated_cap(self, year: int) -> float | None:
+        """The cap of calendar ``year`` as the case states it (in ``money``), or None."""
+        return self.cap_by_year.get(year, self.cap)
 
     def cap_for(self, year: int) -> float | None:
-        """The cap of calendar ``year`` [money], or None when uncapped."""
-        return self.cap_by_year.get(year, self.cap)
+        """The cap of calendar ``year`` in constant start-year money, or None when uncapped.
+
+        A nominal cap C of year ``start_year + k`` is worth ``C/(1+inflation)^k``.
+        """
+        c = self.stated_cap(year)
+        if c is None or self.money == "constant":
+            return c
+        return c * (1.0 + self.inflation) ** -(year - self.start_year)
 
 
 @dataclass(frozen=True)
@@ -217,6 +268,53 @@ class Limit:
 
     class_: str
     max_buys_per_year: int
+
+
+@dataclass(frozen=True)
+class Demand:
+    """Units of ``class_`` in service from each calendar year on: ``count_by_year`` (year → count),
+    each entry held until the next; before the first entry the class keeps its starting size."""
+
+    class_: str
+    count_by_year: Mapping[int, int]
+
+
+@dataclass(frozen=True)
+class Order:
+    """``count`` new units of ``type`` entering service at age 0 in calendar ``year`` (price paid
+    then); the inventory unit names in ``replaces`` are sold that year."""
+
+    type: str
+    count: int
+    year: int
+    replaces: tuple[str, ...] = ()
+
+
+@dataclass(frozen=True)
+class Target:
+    """A transition target over ``classes`` from calendar year ``from_`` on.
+
+    ``share_of_buys``: units bought of ``types`` ≥ share × all units bought in
+    ``classes`` each year; ``share_in_service``: units of ``types`` in service ≥
+    share × all units in service in ``classes`` (None: that part is absent).
+    """
+
+    types: tuple[str, ...]
+    classes: tuple[str, ...]
+    from_: int
+    share_of_buys: float | None = None
+    share_in_service: float | None = None
+    label: str = ""
+
+
+@dataclass(frozen=True)
+class EmissionCap:
+    """At most ``tonnes`` CO2e a year from the whole fleet, from calendar year ``from_`` on
+    (until ``until``, inclusive, when given)."""
+
+    from_: int
+    tonnes: float
+    until: int | None = None
 
 
 @dataclass(frozen=True)
@@ -261,6 +359,10 @@ class Case:
     limits: tuple[Limit, ...] = ()
     scenarios: tuple[Scenario, ...] = ()
     uncertain: tuple[Uncertain, ...] = ()
+    demands: tuple[Demand, ...] = ()
+    orders: tuple[Order, ...] = ()
+    targets: tuple[Target, ...] = ()
+    emission_caps: tuple[EmissionCap, ...] = ()
     source: str = "<memory>"
     group_by: str | None = None
     raw: Mapping[str, Any] = field(default_factory=dict, repr=False, compare=False)
@@ -301,6 +403,18 @@ class Case:
             self.budget.cap is not None or len(self.budget.cap_by_year) > 0
         )
         return has_cap or len(self.limits) > 0
+
+    @property
+    def coupled(self) -> bool:
+        """True when a rule couples units of a class or across classes (demand, orders,
+        targets, emission caps): such plans go through the cohort program."""
+        return bool(self.demands or self.orders or self.targets or self.emission_caps)
+
+    def emission_cap_for(self, year: int) -> float | None:
+        """The tightest emission cap of calendar ``year`` [t], or None."""
+        caps = [c.tonnes for c in self.emission_caps
+                if c.from_ <= year and (c.until is None or year <= c.until)]
+        return min(caps) if caps else None
 
     @property
     def unit_count(self) -> int:

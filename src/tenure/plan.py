@@ -17,7 +17,7 @@ from typing import Sequence
 
 import numpy as np
 
-from .chain import KEEP, StageGraph, Step, path_cost
+from .chain import KEEP, NEW, SELL, StageGraph, Step, path_cost
 from .model import Case
 
 
@@ -59,12 +59,15 @@ class Provenance:
 UNIT_COLUMNS = ("unit", "class", "start_type", "start_age", "year", "action", "from_type", "from_age", "type",
                 "price", "market_value", "defer_cost", "advance_cost")
 #: columns of years.csv and Plan.years_frame()
-YEAR_COLUMNS = ("year", "buys", "capital", "salvage", "om", "cap", "slack", "shadow_price", "buys_by_type")
+YEAR_COLUMNS = ("year", "buys", "capital", "salvage", "om", "cap", "slack", "shadow_price", "buys_by_type",
+                "sells", "in_service", "tonnes", "carbon", "capital_nominal", "cap_nominal")
 
 
 @dataclass(frozen=True)
 class Event:
-    """A replacement: in ``year`` the unit of ``from_type``/``from_age`` is sold and a new ``type`` bought."""
+    """What is done to a unit in ``year``: ``action`` "replace" (the unit of ``from_type``/``from_age`` is
+    sold and a new ``type`` bought), "buy" (a new ``type`` bought without a sale; ``from_type`` "") or
+    "sell" (sold without a replacement; ``type`` "")."""
 
     year: int
     action: str
@@ -101,8 +104,11 @@ class YearRow:
 
     ``capital``: purchase prices paid; ``salvage``: market value received for
     units sold; ``om``: O&M of the year (paid at its end); ``cap`` and
-    ``slack`` on the budget's basis; ``shadow_price``: present-cost saving per
-    extra unit of money in the year's cap (None when not computed).
+    ``slack`` on the budget's basis in constant money; ``shadow_price``: present-cost saving per
+    extra unit of money in the year's cap (None when not computed).  ``in_service``: units
+    held during the year, after its purchases and sales; ``tonnes``: their CO2e [t];
+    ``carbon``: the priced tonnes [money, paid at the year's end]; ``price_index``:
+    nominal money per unit of constant money, ``(1+inflation)^k``.
     """
 
     year: int
@@ -114,6 +120,21 @@ class YearRow:
     slack: float | None = None
     shadow_price: float | None = None
     buys_by_type: dict = field(default_factory=dict)
+    sells: int = 0
+    in_service: int = 0
+    tonnes: float = 0.0
+    carbon: float = 0.0
+    price_index: float = 1.0
+
+    @property
+    def capital_nominal(self) -> float:
+        """Purchase prices in then-year money."""
+        return self.capital * self.price_index
+
+    @property
+    def cap_nominal(self) -> float | None:
+        """The cap in then-year money (None when uncapped)."""
+        return None if self.cap is None else self.cap * self.price_index
 
 
 @dataclass(frozen=True)
@@ -238,7 +259,9 @@ class Plan:
             "years": [
                 {"year": y.year, "buys": y.buys, "capital": _r(y.capital), "salvage": _r(y.salvage), "om": _r(y.om),
                  "cap": _r(y.cap), "slack": _r(y.slack), "shadow_price": y.shadow_price,
-                 "buys_by_type": dict(y.buys_by_type)}
+                 "buys_by_type": dict(y.buys_by_type), "sells": y.sells, "in_service": y.in_service,
+                 "tonnes": round(y.tonnes, 3), "carbon": _r(y.carbon), "capital_nominal": _r(y.capital_nominal),
+                 "cap_nominal": _r(y.cap_nominal)}
                 for y in self.years
             ],
             "units": [
@@ -286,10 +309,7 @@ def assemble(case: Case, graphs: dict[str, StageGraph], groups: Sequence[PathGro
     """Build the :class:`Plan` from unit paths: events, yearly totals, present cost."""
     s = case.study
     H, y0 = s.horizon, s.start_year
-    buys = np.zeros(H, dtype=int)
-    capital = np.zeros(H)
-    salvage = np.zeros(H)
-    om = np.zeros(H)
+    acc = {key: np.zeros(H) for key in ("buys", "sells", "capital", "salvage", "om", "tonnes", "in_service")}
     by_type: list[Counter] = [Counter() for _ in range(H)]
     end_mv = 0.0
     class_of = {t.id: t.class_ for t in case.types}
@@ -304,31 +324,15 @@ def assemble(case: Case, graphs: dict[str, StageGraph], groups: Sequence[PathGro
         cost = path_cost(g, list(grp.steps))
         total += n * cost
         by_class[grp.class_] = by_class.get(grp.class_, 0.0) + n * cost
-        events = []
-        flex = iter(grp.flex)
-        t = a = None
-        for st in grp.steps:
-            if st.action == KEEP:
-                om[st.k] += n * g.om_keep[st.k, st.type, st.age]
-                t, a = st.type, st.age + 1
-                continue
-            p, mv = g.price[st.k, st.action], g.value[st.k, st.type, st.age]
-            buys[st.k] += n
-            capital[st.k] += n * p
-            salvage[st.k] += n * mv
-            om[st.k] += n * g.om_new[st.k, st.action]
-            by_type[st.k][g.types[st.action]] += n
-            d, adv = next(flex, (None, None))
-            events.append(Event(year=y0 + st.k, action="replace", from_type=g.types[st.type], from_age=st.age,
-                                type=g.types[st.action], price=float(p), market_value=float(mv),
-                                defer_cost=d, advance_cost=adv))
-            t, a = st.action, 1
-        if s.end_value == "salvage":
+        events, (t, a) = _walk(g, grp, n, y0, acc, by_type)
+        if s.end_value == "salvage" and t is not None:
             end_mv += n * g.value[H, t, a]
         t0, a0 = grp.start
+        new = t0 == NEW
         for name in grp.units:
-            units.append(UnitPlan(unit=name, class_=grp.class_, start_type=g.types[t0], start_age=a0,
-                                  events=tuple(events), present_cost=cost, end_type=g.types[t], end_age=int(a),
+            units.append(UnitPlan(unit=name, class_=grp.class_, start_type="" if new else g.types[t0],
+                                  start_age=None if new else a0, events=tuple(events), present_cost=cost,
+                                  end_type="" if t is None else g.types[t], end_age=None if t is None else int(a),
                                   attributes=attrs.get(name, ())))
     order = {name: j for j, name in enumerate(_unit_order(case))}
     units.sort(key=lambda u: order.get(u.unit, len(order)))
@@ -337,11 +341,15 @@ def assemble(case: Case, graphs: dict[str, StageGraph], groups: Sequence[PathGro
     for k in range(H):
         y = y0 + k
         cap = budget.cap_for(y) if budget is not None else None
-        spend = capital[k] - (salvage[k] if budget is not None and budget.basis == "net" else 0.0)
-        years.append(YearRow(year=y, buys=int(buys[k]), capital=float(capital[k]), salvage=float(salvage[k]),
-                             om=float(om[k]), cap=cap, slack=None if cap is None else float(cap - spend),
+        capital, salvage = acc["capital"][k], acc["salvage"][k]
+        spend = capital - (salvage if budget is not None and budget.basis == "net" else 0.0)
+        years.append(YearRow(year=y, buys=int(acc["buys"][k]), capital=float(capital), salvage=float(salvage),
+                             om=float(acc["om"][k]), cap=cap, slack=None if cap is None else float(cap - spend),
                              shadow_price=None if shadow is None else shadow.get(y),
-                             buys_by_type=dict(sorted(by_type[k].items()))))
+                             buys_by_type=dict(sorted(by_type[k].items())), sells=int(acc["sells"][k]),
+                             in_service=int(acc["in_service"][k]), tonnes=float(acc["tonnes"][k]),
+                             carbon=float(s.carbon_price * acc["tonnes"][k]),
+                             price_index=float((1.0 + s.inflation) ** k)))
     lb = total if lower_bound is None else min(lower_bound, total)
     gap = 0.0 if status == "optimal" else (total - lb) / max(abs(total), 1e-9)
     return Plan(status=status, method=method, present_cost=float(total), lower_bound=float(lb),
@@ -350,6 +358,44 @@ def assemble(case: Case, graphs: dict[str, StageGraph], groups: Sequence[PathGro
                 basis=budget.basis if budget is not None else "gross", uncapped_cost=uncapped_cost,
                 shortfall=tuple(shortfall), message=message, stats=dict(stats or {}), provenance=provenance,
                 tax_rate=s.tax_rate)
+
+
+def _walk(g: StageGraph, grp: PathGroup, n: int, y0: int, acc: dict, by_type: list) -> tuple[list, tuple]:
+    """Add one path group's yearly totals (n units) to ``acc``; its events and end state (None when sold)."""
+    events = []
+    flex = iter(grp.flex)
+    t = a = None
+    for st in grp.steps:
+        k = st.k
+        if st.action == KEEP:
+            acc["om"][k] += n * g.om_keep[k, st.type, st.age]
+            acc["tonnes"][k] += n * g.tonnes_keep[k, st.type, st.age]
+            acc["in_service"][k] += n
+            t, a = st.type, st.age + 1
+            continue
+        d, adv = next(flex, (None, None))
+        if st.action == SELL:
+            mv = g.value[k, st.type, st.age]
+            acc["salvage"][k] += n * mv
+            acc["sells"][k] += n
+            events.append(Event(year=y0 + k, action="sell", from_type=g.types[st.type], from_age=st.age, type="",
+                                price=0.0, market_value=float(mv)))
+            return events, (None, None)
+        new = st.type == NEW
+        p, mv = g.price[k, st.action], (0.0 if new else g.value[k, st.type, st.age])
+        acc["buys"][k] += n
+        acc["sells"][k] += 0 if new else n
+        acc["capital"][k] += n * p
+        acc["salvage"][k] += n * mv
+        acc["om"][k] += n * g.om_new[k, st.action]
+        acc["tonnes"][k] += n * g.tonnes_new[k, st.action]
+        acc["in_service"][k] += n
+        by_type[k][g.types[st.action]] += n
+        events.append(Event(year=y0 + k, action="buy" if new else "replace", from_type="" if new else g.types[st.type],
+                            from_age=-1 if new else st.age, type=g.types[st.action], price=float(p),
+                            market_value=float(mv), defer_cost=d, advance_cost=adv))
+        t, a = st.action, 1
+    return events, (t, a)
 
 
 def _unit_order(case: Case) -> list[str]:
@@ -382,4 +428,5 @@ def event_rows(plan: Plan, kept: Sequence[str] = ()):
 def year_rows(plan: Plan):
     """Rows of years.csv in ``YEAR_COLUMNS`` order, values unformatted (``buys_by_type`` a dict)."""
     for y in plan.years:
-        yield (y.year, y.buys, y.capital, y.salvage, y.om, y.cap, y.slack, y.shadow_price, dict(y.buys_by_type))
+        yield (y.year, y.buys, y.capital, y.salvage, y.om, y.cap, y.slack, y.shadow_price, dict(y.buys_by_type),
+               y.sells, y.in_service, y.tonnes, y.carbon, y.capital_nominal, y.cap_nominal)

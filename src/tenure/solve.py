@@ -1,8 +1,9 @@
 """Entry point of the solvers: the one function every command and scenario calls.
 
 ``solve(case)`` uses the backward recursion (``tenure.chain`` via
-``tenure.uncapped``) when the case has no cap and no limit, and the fleet
-integer program (``tenure.fleet``) otherwise.  Either way the answer is a
+``tenure.uncapped``) when the case has no cap, no limit and no rule that couples
+units (demand, orders, targets, emission caps), and the fleet integer program
+(``tenure.fleet``) otherwise.  Either way the answer is a
 :class:`~tenure.plan.Plan`.
 """
 
@@ -20,7 +21,7 @@ def solve(case: Case, **options) -> Plan:
 
     ``options`` (solver, time_limit, gap, progress) go to :func:`tenure.fleet.solve_capped`.
     """
-    if not case.capped:
+    if not case.capped and not case.coupled:
         return solve_uncapped(case)
     from .fleet import solve_capped
 

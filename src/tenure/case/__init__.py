@@ -22,6 +22,7 @@ from .assets import _asset_types, _study
 from .inventory import _units, group_by, inline
 from .keys import (BUDGET_KEYS, CSV_COLUMNS, CSV_OPTIONAL, DISTRIBUTIONS, FLEET_KEYS, FORMAT_VERSION, LIMIT_KEYS,
                    SCENARIO_KEYS, STUDY_KEYS, TOP_KEYS, TYPE_KEYS, UNCERTAIN_KEYS, UNIT_KEYS)
+from .plan_rules import _demands, _emission_caps, _orders, _targets
 from .problems import CaseError, Checker, Problem, blocks
 from .rules import _budget, _coverage, _limits, _size
 from .taxes import _tax_coverage
@@ -67,6 +68,10 @@ def build_case(doc: Mapping[str, Any], *, source: str = "<memory>", base_dir: Pa
     scenarios = _scenarios(chk, doc)
     uncertain = _uncertain(chk, doc)
     _tax_coverage(chk, doc, study.tax_rate if study is not None else None)
+    demands = _demands(chk, doc, study, types, units)
+    orders = _orders(chk, doc, study, types, units)
+    targets = _targets(chk, doc, types)
+    emission_caps = _emission_caps(chk, doc)
     if study is not None:  # reported with the other problems; classes with an invalid type are left out
         half_read = {b.get("class") for b in blocks(Checker(source), doc, "asset_type") if b.get("id") not in by_id}
         _coverage(chk, study, types, units, skip=half_read)
@@ -80,7 +85,9 @@ def build_case(doc: Mapping[str, Any], *, source: str = "<memory>", base_dir: Pa
     if grouping is not None:
         raw["fleet"] = {"group_by": grouping}
     return Case(study=study, types=tuple(types), units=tuple(units), budget=budget, limits=tuple(limits),
-                scenarios=tuple(scenarios), uncertain=tuple(uncertain), source=source, group_by=grouping, raw=raw)
+                scenarios=tuple(scenarios), uncertain=tuple(uncertain), demands=tuple(demands), orders=tuple(orders),
+                targets=tuple(targets), emission_caps=tuple(emission_caps), source=source, group_by=grouping,
+                raw=raw)
 
 
 def read_document(path: Path | str) -> dict[str, Any]:

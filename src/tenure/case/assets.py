@@ -4,8 +4,8 @@ from __future__ import annotations
 
 from typing import Any, Mapping
 
-from ..model import END_VALUES, AssetType, OMCurve, Study, ValueCurve
-from .keys import STUDY_KEYS, TYPE_KEYS
+from ..model import END_VALUES, RATE_BASES, AssetType, Emissions, OMCurve, Study, ValueCurve
+from .keys import EMISSION_KEYS, STUDY_KEYS, TYPE_KEYS
 from .problems import MONEY_MAX, RATE_MAX, RATE_MIN, Checker, blocks
 from .taxes import _depreciation, _tax_rate
 
@@ -31,11 +31,45 @@ def _study(chk: Checker, doc: Mapping) -> Study | None:
     if end_value == "continuing" and rate is not None and rate <= 0:
         chk.bad("study.discount_rate", f"= {rate!r}: end_value = 'continuing' needs a discount rate > 0 "
                 "(a capitalised cost EAC/i is infinite at a zero rate); use end_value = 'salvage' or a positive rate")
+    inflation = chk.number(s, "inflation", "study", required=False, default=0.0, lo=RATE_MIN, hi=RATE_MAX, lo_open=True,
+                           hi_open=True, what="a rate per year")
+    rate_basis = chk.choice(s, "rate_basis", "study", RATE_BASES, "real")
+    carbon = chk.number(s, "carbon_price", "study", required=False, default=0.0, lo=0, hi=MONEY_MAX,
+                        what="money per tonne ≥ 0")
     tax_rate = _tax_rate(chk, s)
-    if None in (start, horizon, rate):
+    if None in (start, horizon, rate, inflation, carbon):
         return None
+    nominal = None
+    if rate_basis == "nominal":
+        nominal, rate = rate, fisher_real_rate(rate, inflation)
     return Study(title=title, start_year=start, horizon=horizon, discount_rate=rate, end_value=end_value,
-                 tax_rate=tax_rate)
+                 inflation=inflation, rate_basis=rate_basis, nominal_rate=nominal, carbon_price=carbon, tax_rate=tax_rate)
+
+
+def fisher_real_rate(nominal: float, inflation: float) -> float:
+    """Real rate per year from a nominal rate and general inflation (Fisher relation).
+
+    ``real = (1 + nominal)/(1 + inflation) − 1`` (I. Fisher, *The Theory of Interest*, 1930;
+    common practice in engineering economy texts).
+    """
+    return (1.0 + nominal) / (1.0 + inflation) - 1.0
+
+
+def _emissions(chk: Checker, b: Mapping, p: str) -> Emissions | None:
+    if "emissions" not in b:
+        return Emissions()
+    v = b["emissions"]
+    where = f"{p}.emissions"
+    if not isinstance(v, dict):
+        x = chk.number_value(v, where, lo=0, what="tonnes per unit-year ≥ 0 or { first, change }")
+        return None if x is None else Emissions(first=x)
+    chk.keys(v, EMISSION_KEYS, where)
+    first = chk.number(v, "first", where, lo=0, what="tonnes per unit-year ≥ 0")
+    change = chk.number(v, "change", where, required=False, default=0.0, lo=RATE_MIN, hi=RATE_MAX,
+                        lo_open=True, hi_open=True, what="a rate per vintage year")
+    if first is None or change is None:
+        return None
+    return Emissions(first=first, change=change)
 
 
 def _om_curve(chk: Checker, v: Any, path: str) -> OMCurve | None:
@@ -163,9 +197,16 @@ def _asset_types(chk: Checker, doc: Mapping) -> list[AssetType]:
         else:
             sv = _value_curve(chk, b["salvage"], f"{p}.salvage")
         dep = _depreciation(chk, b, p)
-        if None in (tid, cls, price, price_change, om_change, om, sv, max_age):
+        min_age = chk.integer(b, "min_age", p, required=False, default=0, lo=0, hi=100,
+                              what="a whole number of years ≥ 0")
+        if min_age is not None and max_age is not None and min_age > max_age:
+            chk.bad(f"{p}.min_age", f"= {min_age}: must not exceed max_age = {max_age} (a unit at max_age must be "
+                    "replaced, so a minimum life past it could never be kept); allowed: 0 … max_age")
+            min_age = None
+        em = _emissions(chk, b, p)
+        if None in (tid, cls, price, price_change, om_change, om, sv, max_age, min_age, em):
             continue
         out.append(AssetType(id=tid, class_=cls, price=price, price_change=price_change, om_change=om_change,
                              buy_from=buy_from, buy_until=buy_until, max_age=max_age, om=om, salvage=sv,
-                             depreciation=dep))
+                             min_age=min_age, emissions=em, depreciation=dep))
     return out

@@ -2,11 +2,13 @@
 
 FORMAT_VERSION = 1
 
-TOP_KEYS = ("format", "study", "asset_type", "unit", "fleet", "budget", "limit", "scenario", "uncertain")
-STUDY_KEYS = ("title", "start_year", "horizon", "discount_rate", "end_value", "tax_rate")
+TOP_KEYS = ("format", "study", "asset_type", "unit", "fleet", "budget", "limit", "scenario", "uncertain",
+            "demand", "order", "target", "emission_cap")
+STUDY_KEYS = ("title", "start_year", "horizon", "discount_rate", "end_value", "inflation", "rate_basis", "carbon_price",
+              "tax_rate")
 TYPE_KEYS = (
     "id", "class", "price", "price_change", "buy_from", "buy_until",
-    "max_age", "om", "om_change", "salvage", "depreciation",
+    "max_age", "om", "om_change", "salvage", "min_age", "emissions", "depreciation",
 )
 UNIT_KEYS = ("id", "type", "age", "count")
 #: further keys of a [[unit]] block (not scenario override targets: overrides see resolved ages)
@@ -19,8 +21,13 @@ CSV_OPTIONAL = ("count",)
 #: kept inventory columns may not take the name of a units.csv column
 RESERVED_COLUMNS = ("unit", "class", "start_type", "start_age", "year", "action", "from_type", "from_age", "price",
                     "market_value", "defer_cost", "advance_cost", "present_cost", "attributes")
-BUDGET_KEYS = ("cap", "cap_by_year", "basis")
+BUDGET_KEYS = ("cap", "cap_by_year", "basis", "money")
 LIMIT_KEYS = ("class", "max_buys_per_year")
 SCENARIO_KEYS = ("id", "note", "set")
 UNCERTAIN_KEYS = ("path", "dist", "low", "high", "mode", "mean", "sd")
 DISTRIBUTIONS = ("uniform", "triangular", "normal")
+DEMAND_KEYS = ("class", "count_by_year")
+ORDER_KEYS = ("type", "count", "year", "replaces")
+TARGET_KEYS = ("name", "types", "share_of_buys", "share_in_service", "from", "classes")
+EMISSION_CAP_KEYS = ("from", "until", "tonnes")
+EMISSION_KEYS = ("first", "change")

@@ -5,7 +5,7 @@ from __future__ import annotations
 import difflib
 from typing import Mapping
 
-from ..model import BUDGET_BASES, AssetType, Budget, Limit, Study, Unit
+from ..model import BUDGET_BASES, MONEY_BASES, AssetType, Budget, Limit, Study, Unit
 from .keys import BUDGET_KEYS, LIMIT_KEYS
 from .problems import CAP_MAX, UNITS_MAX, Checker, blocks, year_runs
 
@@ -19,6 +19,11 @@ def _budget(chk: Checker, doc: Mapping, study: Study | None) -> Budget | None:
     chk.keys(b, BUDGET_KEYS, "budget")
     cap = chk.number(b, "cap", "budget", required=False, default=None, lo=0, hi=CAP_MAX, what="money ≥ 0")
     basis = chk.choice(b, "basis", "budget", BUDGET_BASES, "gross")
+    money = chk.choice(b, "money", "budget", MONEY_BASES, "constant")
+    study_table = doc.get("study") if isinstance(doc.get("study"), dict) else {}
+    if money == "nominal" and "inflation" not in study_table:
+        chk.bad("budget.money", "= 'nominal': then-year caps need [study] inflation (general inflation per year, "
+                "e.g. inflation = 0.025) to be converted to constant start-year money")
     by_year: dict[int, float] = {}
     if "cap_by_year" in b:
         t = chk.table(b["cap_by_year"], "budget.cap_by_year")
@@ -36,7 +41,9 @@ def _budget(chk: Checker, doc: Mapping, study: Study | None) -> Budget | None:
             v = chk.number_value(val, where, lo=0, hi=CAP_MAX, what="money ≥ 0")
             if v is not None:
                 by_year[year] = v
-    return Budget(cap=cap, cap_by_year=by_year, basis=basis)
+    inflation = study.inflation if study is not None else 0.0
+    start = study.start_year if study is not None else 0
+    return Budget(cap=cap, cap_by_year=by_year, basis=basis, money=money, inflation=inflation, start_year=start)
 
 
 def _limits(chk: Checker, doc: Mapping, classes: set[str]) -> list[Limit]:

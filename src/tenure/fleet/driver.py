@@ -28,6 +28,7 @@ from ..plan import Plan, Provenance, assemble
 from ..uncapped import build_graphs, solve_uncapped
 from .backend import DEFAULT_BACKEND, Backend, get_backend
 from .flows import fits_caps, flows_to_groups
+from . import rules_check, rules_rows
 from .program import build_program
 from .rounding import fix_and_relax
 from .shortfall import shortfall
@@ -88,7 +89,7 @@ def solve_capped(case: Case, backend: str = DEFAULT_BACKEND, time_limit: float =
     run.sols = {c: chain.backward(g) for c, g in run.graphs.items()}
     free = solve_uncapped(case, run.graphs, run.sols)
     run.uncapped_cost = free.present_cost
-    if fits_caps(free, case):
+    if fits_caps(free, case) and not rules_check.breaks(case, free):
         run.log("the uncapped plan fits every cap and limit: it is optimal")
         run.stats.update(first_plan_seconds=run.elapsed(), caps_binding=False)
         return free.with_(uncapped_cost=run.uncapped_cost, method="recursion (caps not binding)",
@@ -114,7 +115,16 @@ def _solve_program(run: _Run, gap: float) -> Plan:
               for k in range(case.study.horizon) if prog.cap_rows[k] >= 0}
     run.log(f"LP bound {lp_bound:,.0f}")
     best_x, best_cost, method = None, INF, f"fix-and-relax rounding of the LP relaxation ({label})"
-    xr = fix_and_relax(prog, case, be, lp.x, run.deadline, run.log)
+    if np.all(np.abs(lp.x - np.round(lp.x)) < 1e-7):
+        # a network flow (e.g. class sizes without caps or targets): the LP optimum is a whole-unit plan
+        xr = np.round(lp.x)
+        method = f"LP relaxation, integral ({label})"
+        run.log("the LP relaxation is integral: its plan is optimal")
+    else:
+        xr = fix_and_relax(prog, case, be, lp.x, run.deadline, run.log)
+    if xr is not None and case.coupled and not rules_rows.satisfies(prog, xr):
+        run.log("the rounded plan breaks a coupling row: the MIP solver takes over")
+        xr = None
     if xr is not None:
         best_x, best_cost = xr, float(prog.cost @ xr)
         stats["first_plan_seconds"] = run.elapsed()
@@ -174,6 +184,9 @@ def _infeasible(run: _Run, proven: bool = False) -> Plan:
     """
     case, stats = run.case, run.stats
     left = max(5.0, run.deadline - time.perf_counter())
+    if case.coupled:
+        rules_check.raise_if_impossible(case, run.graphs, run.backend, left)
+        left = max(5.0, run.deadline - time.perf_counter())
     sf = shortfall(case, run.graphs, run.backend, left, run.uncapped_cost)
     proven = proven or sf.proven
     y0 = case.study.start_year

@@ -14,10 +14,14 @@ def flows_to_groups(prog: CohortProgram, x: np.ndarray, case: Case, uncapped_sol
     """Assign integral cohort flows to unit names and return their paths.
 
     Within a state the units keep their inventory order and the first ones are
-    sold; the year's sold units, oldest state first, take the year's purchases
-    in the case order of types.
+    sold (units an order ``replaces`` first in their year, last before it); the
+    year's sold units, oldest state first, take the year's purchases in the case
+    order of types.  Purchases beyond the sales are new units (named
+    ``<class>+<year>#n``); sales beyond the purchases leave without a replacement.
     """
     H = case.study.horizon
+    y0 = case.study.start_year
+    leaves = {nm: o.year - y0 for o in case.orders for nm in o.replaces}
     groups: dict = {}
     for cls, ci in prog.cols.items():
         g = prog.graphs[cls]
@@ -34,8 +38,13 @@ def flows_to_groups(prog: CohortProgram, x: np.ndarray, case: Case, uncapped_sol
         for k in range(H):
             nxt: dict[tuple[int, int], list[str]] = {}
             sold: list[tuple[int, int, str]] = []
+
+            def rank(nm, k=k):
+                due = leaves.get(nm)
+                return (0 if due == k else 1 if due is None else 2, order[nm])
+
             for (t, a) in sorted(at, key=lambda s: (-s[1], s[0])):
-                names = sorted(at[(t, a)], key=order.__getitem__)
+                names = sorted(at[(t, a)], key=rank)
                 js = int(ci.sell[k][t, a]) if a < ci.sell.shape[2] else -1
                 n_sell = int(round(x[js])) if js >= 0 else 0
                 for nm in names[:n_sell]:
@@ -48,20 +57,27 @@ def flows_to_groups(prog: CohortProgram, x: np.ndarray, case: Case, uncapped_sol
                 jb = int(ci.buy[k][t2])
                 if jb >= 0:
                     buys.extend([t2] * int(round(x[jb])))
-            if len(buys) != len(sold):
-                raise RuntimeError(f"cohort flows do not balance in {cls} {case.study.start_year + k}")
+            if len(buys) - len(sold) != int(round(prog.market_rhs.get((cls, k), 0.0))):
+                raise RuntimeError(f"cohort flows do not balance in {cls} {y0 + k}")
             for (t, a, nm), t2 in zip(sold, buys):
                 steps[nm].append(chain.Step(k, t, a, t2))
+                nxt.setdefault((t2, 1), []).append(nm)
+            for t, a, nm in sold[len(buys):]:
+                steps[nm].append(chain.Step(k, t, a, chain.SELL))
+            for j, t2 in enumerate(buys[len(sold):], start=1):
+                nm = f"{cls}+{y0 + k}#{j}"
+                order[nm], origin[nm] = len(order), (chain.NEW, chain.NEW)
+                steps[nm] = [chain.Step(k, chain.NEW, chain.NEW, t2)]
                 nxt.setdefault((t2, 1), []).append(nm)
             at = nxt
         sol = uncapped_sols[cls]
         for nm, st in steps.items():
-            key = (cls, tuple(st))
+            key = (cls, origin[nm], tuple(st))
             if key not in groups:
                 groups[key] = [st, [], origin[nm], chain.flexibility(sol, st)]
             groups[key][1].append(nm)
     return [PathGroup(class_=cls, steps=tuple(st), units=tuple(names), start=start, flex=tuple(flex))
-            for (cls, _), (st, names, start, flex) in groups.items()]
+            for (cls, _, _), (st, names, start, flex) in groups.items()]
 
 
 def fits_caps(plan: Plan, case: Case) -> bool:

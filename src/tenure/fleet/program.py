@@ -24,13 +24,14 @@ rationing constraints", Management Science 40(3), 1994.
 from __future__ import annotations
 
 import math
-from dataclasses import dataclass, replace
+from dataclasses import dataclass, field, replace
 
 import numpy as np
 import scipy.sparse as sp
 
 from ..model import Case
 from ..uncapped import build_graphs, starting_states
+from . import rules_rows
 
 INF = math.inf
 
@@ -63,6 +64,8 @@ class CohortProgram:
     cols: dict  # class -> ColumnIndex
     starts: dict  # class -> {(t, a): [names]}
     graphs: dict
+    market_rhs: dict = field(default_factory=dict)  # (class, k) -> Σ buy − Σ sell (rules_rows.market_changes)
+    rule_rows: tuple = ()  # (row, rules_rows.RuleRow) of each coupling row
 
     @property
     def n_cols(self) -> int:
@@ -173,6 +176,8 @@ def _class_columns(b: _Builder, g, reach, H: int, n_units: float) -> ColumnIndex
         ts, as_ = np.nonzero(reach[k])
         has_keep = as_ < g.max_age[ts]
         has_sell = np.full(len(ts), bool(g.buyable[k].any()))
+        if g.sellable is not None:  # no sale below min_age
+            has_sell &= g.sellable[ts, as_]
         first = np.concatenate([[0], np.cumsum(has_keep.astype(np.int64) + has_sell)])
         cost = np.empty(first[-1])
         kc, sc = first[:-1][has_keep], (first[:-1] + has_keep)[has_sell]
@@ -187,9 +192,11 @@ def _class_columns(b: _Builder, g, reach, H: int, n_units: float) -> ColumnIndex
     return ColumnIndex(keep=keep, sell=sell, buy=buy)
 
 
-def _class_rows(b: _Builder, g, ci: ColumnIndex, reach, start: dict, cap_rows, net: bool, lim) -> None:
+def _class_rows(b: _Builder, g, ci: ColumnIndex, reach, start: dict, cap_rows, net: bool, lim,
+                market: dict | None = None) -> None:
     """The class's rows: conservation at each state (year by year, row-major), then for each year
-    its market node and its purchase-limit row; its coefficients in the caps' rows."""
+    its market node and its purchase-limit row; its coefficients in the caps' rows.  ``market`` maps a
+    year k to the class's size change Σ buy − Σ sell then ([[demand]], orders; rules_rows.market_changes)."""
     keep, sell, buy = ci.keep, ci.sell, ci.buy
     H = len(cap_rows)
     # conservation at each state: keep + sell − inflow = inventory (k = 0) or 0
@@ -204,17 +211,19 @@ def _class_rows(b: _Builder, g, ci: ColumnIndex, reach, start: dict, cap_rows, n
     new = (ks > 0) & (as_ == 1)
     b.put(r[new], buy[ks[new] - 1, ts[new]], -1.0)
     # market node (Σ sell = Σ buy) and purchase limit of each year
-    market = np.full(H, -1, dtype=np.int64)
+    market_row = np.full(H, -1, dtype=np.int64)
     limit = np.full(H, -1, dtype=np.int64)
     s_any, b_any = (sell >= 0).any(axis=(1, 2)), (buy >= 0).any(axis=1)
     for k in np.flatnonzero(s_any | b_any).tolist():
-        market[k] = b.row(0.0, 0.0)
+        d = -(market or {}).get(k, 0.0)  # Σ sell − Σ buy = −(the class's size change)
+        rows_k = b.row(d, d)
+        market_row[k] = rows_k
         if lim is not None and b_any[k]:
             limit[k] = b.row(-INF, float(lim))
     sk, st, sa = np.nonzero(sell >= 0)
     bk, bt = np.nonzero(buy >= 0)
-    b.put(market[sk], sell[sk, st, sa], 1.0)
-    b.put(market[bk], buy[bk, bt], -1.0)
+    b.put(market_row[sk], sell[sk, st, sa], 1.0)
+    b.put(market_row[bk], buy[bk, bt], -1.0)
     lb = limit[bk] >= 0
     b.put(limit[bk][lb], buy[bk, bt][lb], 1.0)
     # caps: gross Σ price·buy; net less Σ value·sell
@@ -239,13 +248,19 @@ def build_program(case: Case, graphs=None, extra_cap: np.ndarray | None = None) 
     caps = _caps(case, extra_cap)
     cap_rows = np.array([b.row(-INF, caps[k]) if np.isfinite(caps[k]) else -1 for k in range(H)], dtype=np.int64)
     cols: dict = {}
+    market = rules_rows.market_changes(case, starts)
     for cls, g in graphs.items():
-        n_units = float(sum(len(v) for v in starts[cls].values()))
+        n_units = rules_rows.size_bound(case, cls, sum(len(v) for v in starts[cls].values()))
         reach = g.reachable(list(starts[cls]))
         cols[cls] = _class_columns(b, g, reach, H, n_units)
-        _class_rows(b, g, cols[cls], reach, starts[cls], cap_rows, net, case.limit_for(cls))
+        _class_rows(b, g, cols[cls], reach, starts[cls], cap_rows, net, case.limit_for(cls),
+                    {k: d for (c, k), d in market.items() if c == cls})
+    placed, col_lower = rules_rows.place(b, case, graphs, cols, starts)
     n = len(b.cost)
     matrix = b.matrix()
-    return CohortProgram(cost=np.asarray(b.cost), lower=np.zeros(n), upper=np.asarray(b.upper),
+    lower = np.zeros(n)
+    lower[list(col_lower)] = list(col_lower.values())
+    return CohortProgram(cost=np.asarray(b.cost), lower=lower, upper=np.asarray(b.upper),
                          row_lower=np.asarray(b.row_lo), row_upper=np.asarray(b.row_hi), matrix=matrix,
-                         cap_rows=cap_rows, cols=cols, starts=starts, graphs=graphs)
+                         cap_rows=cap_rows, cols=cols, starts=starts, graphs=graphs, market_rhs=market,
+                         rule_rows=placed)

@@ -46,15 +46,27 @@ def _floors(prog: CohortProgram, x: np.ndarray, k: int):
     return per_class, cands
 
 
-def _class_buys(prog: CohortProgram, x: np.ndarray, k: int, cls: str, n_sell: float) -> dict[int, float]:
-    """Whole purchases of year k in ``cls`` for ``n_sell`` sales: the LP's floors, then the largest
-    remainders (cheaper type first on ties); sales beyond the LP's purchases buy the cheapest type."""
+def _class_buys(prog: CohortProgram, x: np.ndarray, k: int, cls: str, n_sell: float, case: Case,
+                memo: dict | None = None) -> dict[int, float]:
+    """Whole purchases of year k in ``cls`` for ``n_sell`` sales plus the class's size change that year
+    (``prog.market_rhs``): the LP's floors, then the largest remainders (cheaper type first on ties);
+    purchases beyond the LP's buy the cheapest type.  Under coupling rules (targets count types) the
+    purchases follow the LP's type mix one unit at a time.  ``memo`` caches the answer per (class, sales):
+    it is a pure function of them within one year, and the year's checks ask it again and again."""
+    if memo is not None:
+        key = (cls, n_sell)
+        if key not in memo:
+            memo[key] = _class_buys(prog, x, k, cls, n_sell, case)
+        return dict(memo[key])
+    n_sell = max(0.0, n_sell + prog.market_rhs.get((cls, k), 0.0))
     g = prog.graphs[cls]
     b = prog.cols[cls].buy[k]
     idx = np.flatnonzero(b >= 0)
     if n_sell == 0 or len(idx) == 0:
         return {int(t): 0.0 for t in idx}
     lp = np.array([x[b[t]] for t in idx])
+    if case.coupled:
+        return _follow_mix(lp, idx, g.price[k, idx], n_sell)
     base = np.floor(lp + 1e-6)
     if base.sum() > n_sell:
         base = np.zeros_like(base)
@@ -71,12 +83,12 @@ def _class_buys(prog: CohortProgram, x: np.ndarray, k: int, cls: str, n_sell: fl
     return {int(t): float(v) for t, v in zip(idx, base)}
 
 
-def _year_ok(prog: CohortProgram, x: np.ndarray, k: int, case: Case, choice: dict) -> bool:
+def _year_ok(prog: CohortProgram, x: np.ndarray, k: int, case: Case, choice: dict, memo: dict | None = None) -> bool:
     """True when the sales ``choice`` (and the purchases they imply) keep year k within its purchase
     limits and its cap (gross: prices; net: less the market values received)."""
     for cls, sells in choice.items():
         lim = case.limit_for(cls)
-        if lim is not None and sum(v[0] for v in sells.values()) > lim:
+        if lim is not None and sum(v[0] for v in sells.values()) + prog.market_rhs.get((cls, k), 0.0) > lim:
             return False
     cap_row = prog.cap_rows[k]
     cap = prog.row_upper[cap_row] if cap_row >= 0 else INF
@@ -84,7 +96,7 @@ def _year_ok(prog: CohortProgram, x: np.ndarray, k: int, case: Case, choice: dic
     tot = 0.0
     for cls, sells in choice.items():
         g = prog.graphs[cls]
-        buys = _class_buys(prog, x, k, cls, sum(v[0] for v in sells.values()))
+        buys = _class_buys(prog, x, k, cls, sum(v[0] for v in sells.values()), case, memo)
         tot += sum(g.price[k, t] * v for t, v in buys.items())
         if net:
             tot -= sum(g.value[k, t, a] * v[0] for (t, a), v in sells.items())
@@ -125,8 +137,10 @@ def _round_year(prog: CohortProgram, x: np.ndarray, k: int, case: Case, eager: i
         cands.sort(key=lambda c: (-c[0], c[1], c[2]))
     threshold = 0.5 if eager == 0 else 1e-6
 
+    memo: dict = {}
+
     def ok(choice):
-        return _year_ok(prog, x, k, case, choice)
+        return _year_ok(prog, x, k, case, choice, memo)
 
     # the floors (and the forced sales) alone may break the cap or limit: then defer some
     if not ok(per_class) and not _defer(prog, x, k, per_class, ok):
@@ -148,9 +162,19 @@ def _round_year(prog: CohortProgram, x: np.ndarray, k: int, case: Case, eager: i
             if jk >= 0:
                 vals[jk] = n_in - sv
             n_sell += sv
-        for t, v in _class_buys(prog, x, k, cls, n_sell).items():
+        for t, v in _class_buys(prog, x, k, cls, n_sell, case, memo).items():
             vals[int(ci.buy[k][t])] = v
     return vals
+
+
+def _follow_mix(lp: np.ndarray, idx: np.ndarray, price: np.ndarray, n_buy: float) -> dict[int, float]:
+    """``n_buy`` whole purchases spread over types ``idx``: each to the type with the most LP purchases
+    not yet given (cheaper first on ties), so a type the LP does not buy is bought only past its total."""
+    base = np.zeros(len(idx))
+    for _ in range(int(round(n_buy))):
+        j = min(range(len(idx)), key=lambda j: (-(lp[j] - base[j]), price[j]))
+        base[j] += 1
+    return {int(t): float(v) for t, v in zip(idx, base)}
 
 
 def fix_and_relax(prog: CohortProgram, case: Case, be: Backend, x: np.ndarray, deadline: float, log=None,

@@ -67,7 +67,8 @@ _RC = {
 }
 
 #: ids of the charts of a plan report, in page order
-PLAN_CHARTS = ("chart-capital", "chart-ages", "chart-types", "chart-eac", "chart-class-cost", "chart-cap-cost")
+PLAN_CHARTS = ("chart-capital", "chart-ages", "chart-types", "chart-eac", "chart-class-cost", "chart-emissions",
+               "chart-cap-cost")
 #: ids of the charts of a comparison report
 COMPARE_CHARTS = ("chart-compare-cost", "chart-compare-capital")
 
@@ -202,21 +203,22 @@ def unit_years(plan, case: Case) -> list[list[tuple[str, int]]]:
 
     The age is the completed years of service at the start of the year after
     that year's replacement, so a unit bought in the year has age 0; a unit
-    kept from the year before is one year older (docs/conventions.md).
+    kept from the year before is one year older (docs/conventions.md).  A unit not in
+    service in a year (bought later, or sold without a replacement) has ("", −1) there.
     """
     s = case.study
     out = []
     for u in plan.units:
         by_year = {e.year: e for e in u.events}
-        t, a = u.start_type, u.start_age
+        t, a = u.start_type, (-1 if u.start_age is None else u.start_age)
         row = []
         for k in range(s.horizon):
             y = s.start_year + k
-            if k > 0:
+            if k > 0 and a >= 0:
                 a += 1
             e = by_year.get(y)
             if e is not None:
-                t, a = e.type, 0
+                t, a = (e.type, 0) if e.type else ("", -1)
             row.append((t, a))
         out.append(row)
     return out
@@ -321,12 +323,13 @@ def age_heatmap(plan, case: Case) -> str:
                 by_age.setdefault(t.max_age, []).append(t.id)
         max_ages[c] = sorted(by_age.items(), reverse=True)
         top = max([t.max_age for t in types] + [a for u, row in zip(plan.units, uy) if u.class_ == c
-                                               for _, a in row])
+                                               for _, a in row if a >= 0])
         g = np.zeros((top + 1, s.horizon), dtype=int)
         for u, row in zip(plan.units, uy):
             if u.class_ == c:
                 for k, (_, a) in enumerate(row):
-                    g[a, k] += 1
+                    if a >= 0:
+                        g[a, k] += 1
         grids[c] = g
     vmax = max(int(g.max()) for g in grids.values()) or 1
     heights = [max(1.7, 0.15 * g.shape[0] + 0.8) for g in grids.values()]

@@ -22,7 +22,7 @@ from . import buylist, charts, files, grouped_html, groups, html, notes, xlsx
 def life_tables(case: Case) -> list:
     """EAC tables of every type buyable in the study, each bought in its first buyable planning year."""
     s = case.study
-    return [life_table(t, s.discount_rate, s.start_year, year, tax_rate=s.tax_rate)
+    return [life_table(t, s.discount_rate, s.start_year, year, tax_rate=s.tax_rate, carbon_price=s.carbon_price)
             for t, year in charts.buyable_types(case)]
 
 

@@ -29,7 +29,7 @@ from markupsafe import Markup
 from .. import __version__
 from ..model import AssetType, Case
 from ..scenarios import Comparison
-from . import charts, taxnote
+from . import charts, emissions, rules_view, taxnote
 from .text import CAUTION
 
 _ENV = jinja2.Environment(loader=jinja2.PackageLoader("tenure.report", "templates"), autoescape=True,
@@ -412,6 +412,7 @@ def plan_charts(plan, case: Case, life_tables) -> list[tuple[str, str, str, str]
          "(purchases and O&M, less market values received and the end value).",
          charts.class_cost_chart(plan, case)),
     ]
+    out.append(emissions.chart_section(plan, case))
     cap_svg = charts.cap_cost_chart(plan, case)
     if cap_svg is not None:
         out.append(("chart-cap-cost", "Cost of each year's cap",
@@ -438,7 +439,7 @@ def plan_report(plan, case: Case, life_tables, extra: dict | None = None, notes:
                   summary=Markup(summary_html(plan, case) + extra.get("summary", "")), first_years=Markup(extra.get("first_years") or first_years_html(plan, case)),
                   charts=[(cid, ttl, read, Markup(svg)) for cid, ttl, read, svg in plan_charts(plan, case, life_tables)],
                   class_table=Markup(class_table_html(plan, case)), years_table=Markup(years_table_html(plan, case)),
-                  extra_tables=Markup(extra.get("tables", "")),
+                  extra_tables=Markup(extra.get("tables", "")), rules=Markup(rules_view.rules_html(plan, case)),
                   assumptions=Markup(assumptions_html(case)), footer=Markup(notes + footer_html(case)))
 
 

@@ -53,14 +53,19 @@ def units_csv(plan: Plan) -> str:
 
 
 def years_csv(plan: Plan) -> str:
-    """One row per planning year; ``buys_by_type`` as ``type:n;type:n``."""
+    """One row per planning year; ``buys_by_type`` as ``type:n;type:n``.
+
+    ``capital``, ``cap`` and ``slack`` are constant start-year money; ``capital_nominal`` and
+    ``cap_nominal`` the same in then-year money (docs/conventions.md, "Nominal money").
+    """
     buf = io.StringIO()
     w = csv.writer(buf, lineterminator="\n")
     w.writerow(YEAR_COLUMNS)
     for row in year_rows(plan):
-        *money, shadow, mix = row
-        w.writerow([csv_cell(x) for x in money] + ["" if shadow is None else f"{shadow:.6f}",
-                                                   safe_text(";".join(f"{t}:{n}" for t, n in mix.items()))])
+        year, buys, capital, salvage, om, cap, slack, shadow, mix, sells, held, tonnes, carbon, cap_n, cap_nom = row
+        w.writerow([year, buys] + [csv_cell(x) for x in (capital, salvage, om, cap, slack)]
+                   + ["" if shadow is None else f"{shadow:.6f}", safe_text(";".join(f"{t}:{n}" for t, n in mix.items())),
+                      sells, held, f"{tonnes:.3f}"] + [csv_cell(x) for x in (carbon, cap_n, cap_nom)])
     return buf.getvalue()
 
 

@@ -11,6 +11,7 @@ from collections import Counter
 from ..life import LifeTable
 from ..model import Case
 from ..textutil import money
+from . import rules_view
 from . import taxnote as _taxnote
 
 __all__ = ["CAUTION", "money", "rule", "case_summary", "life_text", "plan_summary", "policy_text"]
@@ -30,6 +31,7 @@ def case_summary(case: Case) -> str:
     out = [f"{s.title or '(untitled study)'}", rule(),
            f"years {s.start_year}–{last} ({s.horizon})   discount rate {s.discount_rate:.2%}/yr   "
            f"end value: {s.end_value}   source: {case.source}", ""]
+    out[3:3] = [ln for ln in [rules_view.rate_line(case)] if ln]
     bands = [(0, 2), (3, 5), (6, 8), (9, 11), (12, 14), (15, 19), (20, 200)]
     head = "".join(f"{lo}-{hi}".rjust(7) if hi < 200 else f"{lo}+".rjust(7) for lo, hi in bands)
     out.append(f"{'class / type':<26}{'buy window':>14}{'max':>5}{'units':>7}  ages:{head}")
@@ -116,7 +118,8 @@ def plan_summary(plan, case: Case, out_dir: str | None = None, written: list[str
     for u in plan.units:
         c = by_cls.setdefault(u.class_, Counter())
         for e in u.events:
-            c[e.type] += 1
+            if e.type:  # a sale without a purchase buys nothing
+                c[e.type] += 1
     lines.append("")
     lines.append(f"{'replacements':<26}{'by type bought'}")
     for cls in case.classes:
@@ -159,6 +162,8 @@ def plan_summary(plan, case: Case, out_dir: str | None = None, written: list[str
         if plan.forcing_units:
             lines.append("units whose forced replacement needs the money: " + ", ".join(plan.forcing_units[:12])
                          + (" …" if len(plan.forcing_units) > 12 else ""))
+    extra = rules_view.summary_lines(case, plan)
+    lines += [""] + extra if extra else []
     if out_dir:
         lines.append("")
         names = written or ["plan.json", "units.csv", "years.csv"]

@@ -25,6 +25,7 @@ from openpyxl.utils import get_column_letter
 from .. import __version__
 from ..model import Case
 from ..textutil import cent
+from . import rules_view
 from .text import CAUTION
 
 MONEY = "#,##0;-#,##0"
@@ -291,6 +292,7 @@ def workbook_bytes(plan, case: Case, solutions: dict | None = None, extra_sheets
         fill(wb.create_sheet(title[:31]))
     policy_sheet(wb.create_sheet("policy"), case, solutions)
     assumptions_sheet(wb.create_sheet("assumptions"), case)
+    rules_view.rules_sheet(wb, plan, case)
     if warnings:
         warnings_sheet(wb.create_sheet("warnings"), warnings)
     wb.properties.creator = f"tenure {__version__}"

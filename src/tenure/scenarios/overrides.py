@@ -28,6 +28,7 @@ import re
 from pathlib import Path
 from typing import Any, Mapping, Sequence
 
+from .. import rule_paths
 from ..case import STUDY_KEYS, TYPE_KEYS, UNIT_KEYS, CaseError, Problem, build_case, read_document
 from ..model import Case, Scenario, Uncertain
 
@@ -94,7 +95,7 @@ def valid_paths(doc: Mapping) -> list[str]:
     for u in _blocks(doc, "unit"):
         if isinstance(u.get("id"), str):
             out += [f"unit.{u['id']}.{k}" for k in UNIT_KEYS if k != "id"]
-    return out
+    return out + ["budget.money"] + rule_paths.rule_paths(doc, _classes(doc), _study_years(doc))
 
 
 def _set_one(doc: dict, path: str, value: Any) -> None:
@@ -131,7 +132,7 @@ def _set_one(doc: dict, path: str, value: Any) -> None:
         budget = doc.setdefault("budget", {})
         if not isinstance(budget, dict):
             raise _BadPath("the case's budget is not a table")
-        if rest in ("cap", "basis", "cap_by_year"):
+        if rest in ("cap", "basis", "cap_by_year", "money"):
             budget[rest] = copy.deepcopy(value)
             return
         key, _, year = rest.partition(".")
@@ -141,7 +142,7 @@ def _set_one(doc: dict, path: str, value: Any) -> None:
                 raise _BadPath("budget.cap_by_year is not a table")
             by_year[year] = copy.deepcopy(value)
             return
-        raise _BadPath("budget paths are budget.cap, budget.basis and budget.cap_by_year.<year>")
+        raise _BadPath("budget paths are budget.cap, budget.basis, budget.money and budget.cap_by_year.<year>")
     if head == "limit":
         m = _match_id(rest, _classes(doc))
         if m is None:
@@ -169,6 +170,11 @@ def _set_one(doc: dict, path: str, value: Any) -> None:
             raise _BadPath(f"'{field}' is not a unit field that can be set (age, type, count)")
         next(b for b in blocks if b.get("id") == uid)[field] = copy.deepcopy(value)
         return
+    try:
+        if rule_paths.set_rule(doc, head, rest, value, _classes(doc)):
+            return
+    except rule_paths.BadRulePath as exc:
+        raise _BadPath(str(exc)) from None
     raise _BadPath(f"'{head}' is not a part of a case that can be overridden")
 
 
@@ -247,4 +253,5 @@ def read_scenario_file(path: Path | str, case: Case) -> tuple[list[Scenario], li
 
 def coerce(path: str, x: float):
     """The value to set at ``path``: rounded for whole-number fields, else a float."""
-    return int(round(float(x))) if path.rsplit(".", 1)[-1] in INTEGER_FIELDS else float(x)
+    whole = path.rsplit(".", 1)[-1] in INTEGER_FIELDS or rule_paths.is_integer(path)
+    return int(round(float(x))) if whole else float(x)

@@ -80,6 +80,7 @@ def recost(plan_dict: Mapping, case: Case) -> Recost:
     """
     s = case.study
     y0, H, rate = s.start_year, s.horizon, s.discount_rate
+    cp = s.carbon_price  # priced tonnes are paid with the O&M (docs/conventions.md)
     years = [y["year"] for y in plan_dict.get("years", [])]
     if years != list(s.years):
         return Recost(None, (f"the plan covers {years[0] if years else '?'}–{years[-1] if years else '?'}, "
@@ -119,7 +120,7 @@ def recost(plan_dict: Mapping, case: Case) -> Recost:
                     broken[f"{y}: buys {new.id}, which can be bought only {_window(new)}"] += 1
                 p = curves.price(new, y, y0)
                 mv = curves.market_value(t, a, y, y0)
-                total += v[k] * (p - mv) + v[k + 1] * curves.om(new, 1, y, y0)
+                total += v[k] * (p - mv) + v[k + 1] * (curves.om(new, 1, y, y0) + cp * curves.tonnes(new, y, y0))
                 capital[k] += p
                 proceeds[k] += mv
                 buys[k][new.class_] += 1
@@ -127,7 +128,7 @@ def recost(plan_dict: Mapping, case: Case) -> Recost:
             else:
                 if a >= t.max_age:
                     broken[f"{y}: keeps a {t.id} at age {a}, its max age is {t.max_age}"] += 1
-                total += v[k + 1] * curves.om(t, a + 1, y - a, y0)
+                total += v[k + 1] * (curves.om(t, a + 1, y - a, y0) + cp * curves.tonnes(t, y - a, y0))
                 a += 1
         y_end = y0 + H
         if s.end_value == "salvage":
