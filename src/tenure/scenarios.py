@@ -490,7 +490,7 @@ def recost(plan_dict: Mapping, case: Case) -> Recost:
     b = case.budget
     for k in range(H):
         y = y0 + k
-        cap = b.cap_for(y) if b is not None else None
+        cap = b.constant_cap(y) if b is not None else None
         if cap is not None:
             spend = capital[k] - (proceeds[k] if b.basis == "net" else 0.0)
             if spend > cap * (1 + CAP_TOL) + 1e-6:
