@@ -157,7 +157,7 @@ def joint_optimum(case, *, new_slots: int = 0, allow_sell: bool = False, sizes=N
     slots = [slot_schedules(case, st, allow_sell) for st in starts]
     slots += [slot_schedules(case, None, allow_sell) for _ in range(new_slots)]
     ids = [t.id for t in case.types]
-    caps = np.array([math.inf if case.budget is None or case.budget.cap_for(y) is None else case.budget.cap_for(y)
+    caps = np.array([math.inf if case.budget is None or case.budget.constant_cap(y) is None else case.budget.constant_cap(y)
                      for y in case.study.years])
     fields = ("buys", "serv", "capital", "tonnes")
     tracked = {nm for o in case.orders for nm in o.replaces}
@@ -296,9 +296,9 @@ def test_nominal_cap_is_deflated_by_inflation():
     b = build_case(doc).budget
     # hand arithmetic: 1.025^3 = 1.076890625, and 1,000,000 / 1.076890625 = 928,599.41
     # (check: 928,599.41 × 1.076890625 = 928,599.41 + 71,400.59 = 1,000,000.00)
-    assert b.cap_for(2033) == pytest.approx(928_599.41, abs=0.01)
-    assert b.cap_for(2030) == 1_000_000
-    assert b.stated_cap(2033) == 1_000_000
+    assert b.constant_cap(2033) == pytest.approx(928_599.41, abs=0.01)
+    assert b.constant_cap(2030) == 1_000_000
+    assert b.cap_for(2033) == 1_000_000
 
 
 def test_fisher_real_rate_gives_the_same_present_worth_as_nominal_discounting():

@@ -247,16 +247,16 @@ class Budget:
     inflation: float = 0.0
     start_year: int = 0
 
-    def stated_cap(self, year: int) -> float | None:
-        """The cap of calendar ``year`` as the case states it (in ``money``), or None."""
+    def cap_for(self, year: int) -> float | None:
+        """The cap of calendar ``year`` as the case states it (in ``money``), or None when uncapped."""
         return self.cap_by_year.get(year, self.cap)
 
-    def cap_for(self, year: int) -> float | None:
-        """The cap of calendar ``year`` in constant start-year money, or None when uncapped.
+    def constant_cap(self, year: int) -> float | None:
+        """The cap of calendar ``year`` in constant start-year money (what the solvers use), or None.
 
         A nominal cap C of year ``start_year + k`` is worth ``C/(1+inflation)^k``.
         """
-        c = self.stated_cap(year)
+        c = self.cap_for(year)
         if c is None or self.money == "constant":
             return c
         return c * (1.0 + self.inflation) ** -(year - self.start_year)

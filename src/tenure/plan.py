@@ -340,7 +340,7 @@ def assemble(case: Case, graphs: dict[str, StageGraph], groups: Sequence[PathGro
     budget = case.budget
     for k in range(H):
         y = y0 + k
-        cap = budget.cap_for(y) if budget is not None else None
+        cap = budget.constant_cap(y) if budget is not None else None
         capital, salvage = acc["capital"][k], acc["salvage"][k]
         spend = capital - (salvage if budget is not None and budget.basis == "net" else 0.0)
         years.append(YearRow(year=y, buys=int(acc["buys"][k]), capital=float(capital), salvage=float(salvage),

@@ -159,7 +159,7 @@ def _caps(case: Case, extra_cap) -> np.ndarray:
     caps = np.full(s.horizon, INF)
     if budget is not None:
         for k in range(s.horizon):
-            cap = budget.cap_for(s.start_year + k)
+            cap = budget.constant_cap(s.start_year + k)
             if cap is not None:
                 caps[k] = cap + (0.0 if extra_cap is None else extra_cap[k])
     return caps

@@ -512,7 +512,7 @@ def compare_report(cmp: Comparison, case: Case, notes: str = "") -> str:
     ids = cmp.ids
     caps = {}
     if case.budget is not None and (case.budget.cap is not None or case.budget.cap_by_year):
-        caps = {y: case.budget.cap_for(y) for y in s.years if case.budget.cap_for(y) is not None}
+        caps = {y: case.budget.constant_cap(y) for y in s.years if case.budget.constant_cap(y) is not None}
     types = cmp.bought_types()
     return render(
         "compare.html.j2", page_title=f"{title} — scenario comparison", title=title, cur=cur, first=s.start_year,

@@ -147,7 +147,7 @@ def _budget_breaks(case: Case, capital, proceeds, buys, broken: Counter) -> None
     b = case.budget
     for k in range(case.study.horizon):
         y = case.study.start_year + k
-        cap = b.cap_for(y) if b is not None else None
+        cap = b.constant_cap(y) if b is not None else None
         if cap is not None:
             spend = capital[k] - (proceeds[k] if b.basis == "net" else 0.0)
             if spend > cap * (1 + CAP_TOL) + 1e-6:
