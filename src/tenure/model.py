@@ -77,6 +77,27 @@ class ValueCurve:
 
 
 @dataclass(frozen=True)
+class Overhaul:
+    """A mid-life overhaul (rebuild) a unit of a type may get once (docs/conventions.md, "Overhaul").
+
+    ``cost`` [money, constant start-year currency] is paid at the start of the
+    year it is done; it is allowed when the unit has completed ``age_from`` …
+    ``age_to`` years; afterwards the O&M of service year j after the overhaul is
+    ``om(om_age_after + j)``; the max age grows by ``adds_years`` [years].
+    """
+
+    cost: float
+    age_from: int
+    age_to: int
+    om_age_after: int
+    adds_years: int
+
+    @property
+    def ages(self) -> range:
+        return range(self.age_from, self.age_to + 1)
+
+
+@dataclass(frozen=True)
 class AssetType:
     """A model of unit that can be held, and perhaps bought.
 
@@ -96,6 +117,11 @@ class AssetType:
     om_change : float
         Geometric change of the whole O&M curve per later vintage [1/year].
     salvage : ValueCurve
+    usage_reference : float or None
+        Yearly usage (km, hours, …) for which ``om`` and ``salvage`` are given.
+    usage_max : float or None
+        Lifetime usage at which a unit must go.
+    overhaul : Overhaul or None
     """
 
     id: str
@@ -108,6 +134,9 @@ class AssetType:
     om_change: float = 0.0
     buy_from: int | None = None
     buy_until: int | None = None
+    usage_reference: float | None = None
+    usage_max: float | None = None
+    overhaul: Overhaul | None = None
 
     def buyable(self, year: int) -> bool:
         """True when a new unit of this type can be bought in calendar ``year``."""
@@ -122,12 +151,14 @@ class Unit:
 
     ``age`` is the completed years of service at the start of the start year
     [years]; the units are named ``id#1 … id#count`` in every output.
+    ``usage`` is the job's yearly usage (None: the type's ``usage_reference``).
     """
 
     id: str
     type: str
     age: int
     count: int = 1
+    usage: float | None = None
 
     def names(self) -> list[str]:
         """Unit names used in outputs."""

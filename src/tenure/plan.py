@@ -17,7 +17,7 @@ from typing import Sequence
 
 import numpy as np
 
-from .chain import KEEP, StageGraph, Step, path_cost
+from .chain import KEEP, OVERHAUL, StageGraph, Step, next_state, path_cost
 from .model import Case
 
 
@@ -57,7 +57,8 @@ class Provenance:
 
 @dataclass(frozen=True)
 class Event:
-    """A replacement: in ``year`` the unit of ``from_type``/``from_age`` is sold and a new ``type`` bought."""
+    """A replacement: in ``year`` the unit of ``from_type``/``from_age`` is sold and a new ``type`` bought;
+    or (``action == "overhaul"``) the unit is overhauled at ``from_age`` for ``price`` (``type`` its own)."""
 
     year: int
     action: str
@@ -88,7 +89,7 @@ class UnitPlan:
 class YearRow:
     """Totals of one planning year [money, undiscounted].
 
-    ``capital``: purchase prices paid; ``salvage``: market value received for
+    ``capital``: purchase prices and overhaul costs paid; ``salvage``: market value received for
     units sold; ``om``: O&M of the year (paid at its end); ``cap`` and
     ``slack`` on the budget's basis; ``shadow_price``: present-cost saving per
     extra unit of money in the year's cap (None when not computed).
@@ -255,6 +256,14 @@ def assemble(case: Case, graphs: dict[str, StageGraph], groups: Sequence[PathGro
             if st.action == KEEP:
                 om[st.k] += n * g.om_keep[st.k, st.type, st.age]
                 t, a = st.type, st.age + 1
+                continue
+            if st.action == OVERHAUL:
+                c = g.overhaul_cost[st.k, st.type, st.age]
+                capital[st.k] += n * c
+                om[st.k] += n * g.om_overhaul[st.k, st.type, st.age]
+                events.append(Event(year=y0 + st.k, action="overhaul", from_type=g.types[st.type], from_age=st.age,
+                                    type=g.types[st.type], price=float(c), market_value=0.0))
+                t, a = next_state(g, st.type, st.age, st.action)
                 continue
             p, mv = g.price[st.k, st.action], g.value[st.k, st.type, st.age]
             buys[st.k] += n

@@ -71,7 +71,8 @@ def build_case(doc: Mapping[str, Any], *, source: str = "<memory>", base_dir: Pa
     raw = copy.deepcopy(dict(doc))
     # inline the inventory so that overrides and copies do not depend on the CSV's location
     raw.pop("fleet", None)
-    raw["unit"] = [{"id": u.id, "type": u.type, "age": u.age, "count": u.count} for u in units]
+    raw["unit"] = [{"id": u.id, "type": u.type, "age": u.age, "count": u.count,
+                    **({} if u.usage is None else {"usage": u.usage})} for u in units]
     return Case(study=study, types=tuple(types), units=tuple(units), budget=budget, limits=tuple(limits),
                 scenarios=tuple(scenarios), uncertain=tuple(uncertain), source=source, raw=raw)
 

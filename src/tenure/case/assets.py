@@ -7,6 +7,7 @@ from typing import Any, Mapping
 from ..model import END_VALUES, AssetType, OMCurve, Study, ValueCurve
 from .keys import STUDY_KEYS, TYPE_KEYS
 from .problems import Checker, blocks
+from .usage import type_usage_fields
 
 
 def _study(chk: Checker, doc: Mapping) -> Study | None:
@@ -138,8 +139,9 @@ def _asset_types(chk: Checker, doc: Mapping) -> list[AssetType]:
             sv = None
         else:
             sv = _value_curve(chk, b["salvage"], f"{p}.salvage")
-        if None in (tid, cls, price, price_change, om_change, om, sv, max_age):
+        extra = type_usage_fields(chk, b, p, max_age)
+        if None in (tid, cls, price, price_change, om_change, om, sv, max_age, extra):
             continue
         out.append(AssetType(id=tid, class_=cls, price=price, price_change=price_change, om_change=om_change,
-                             buy_from=buy_from, buy_until=buy_until, max_age=max_age, om=om, salvage=sv))
+                             buy_from=buy_from, buy_until=buy_until, max_age=max_age, om=om, salvage=sv, **extra))
     return out

@@ -10,6 +10,7 @@ from typing import Any, Mapping
 from ..model import AssetType, Unit
 from .keys import CSV_COLUMNS, CSV_OPTIONAL, FLEET_KEYS, UNIT_KEYS
 from .problems import Checker, blocks
+from .usage import unit_usage
 
 
 def _csv_units(chk: Checker, fleet: Mapping, base_dir: Path) -> list[dict]:
@@ -36,7 +37,7 @@ def _csv_units(chk: Checker, fleet: Mapping, base_dir: Path) -> list[dict]:
                 if c not in CSV_COLUMNS + CSV_OPTIONAL:
                     near = difflib.get_close_matches(c, CSV_COLUMNS + CSV_OPTIONAL, n=1, cutoff=0.5)
                     hint = f"; did you mean '{near[0]}'?" if near else ""
-                    sub.bad("header", f"unknown column '{c}'{hint} (columns are id,type,age[,count])")
+                    sub.bad("header", f"unknown column '{c}'{hint} (columns are id,type,age[,count][,usage])")
             for line_no, raw in enumerate(reader, start=2):
                 r = {(k or "").strip(): (v or "").strip() for k, v in raw.items() if k is not None}
                 if None in raw:  # more cells than header columns
@@ -58,6 +59,11 @@ def _csv_units(chk: Checker, fleet: Mapping, base_dir: Path) -> list[dict]:
                             row[col] = int(f) if f.is_integer() else text
                         except ValueError:
                             row[col] = text
+                if r.get("usage", "") != "":
+                    try:
+                        row["usage"] = float(r["usage"])
+                    except ValueError:
+                        row["usage"] = r["usage"]
                 rows.append(row)
     except (UnicodeDecodeError, csv.Error) as exc:
         sub.bad("file", f"cannot be read as CSV text: {exc}")
@@ -101,8 +107,9 @@ def _units(chk: Checker, doc: Mapping, types: Mapping[str, AssetType], type_ids:
         elif tid is not None and age is not None and tid in types and age > types[tid].max_age:
             sub.bad(f"{p}.age", f"= {age}: exceeds max_age = {types[tid].max_age} of type {tid!r}; "
                     "a unit at max_age must be replaced, so ages run 0 … max_age")
+        ok, usage = unit_usage(sub, row, p, types.get(tid) if tid is not None else None, age)
         chk.problems.extend(sub.problems)
-        if None in (uid, tid, age, count) or tid not in types:
+        if None in (uid, tid, age, count) or tid not in types or not ok:
             continue
-        out.append(Unit(id=uid, type=tid, age=age, count=count))
+        out.append(Unit(id=uid, type=tid, age=age, count=count, usage=usage))
     return out

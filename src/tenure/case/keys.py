@@ -6,12 +6,13 @@ TOP_KEYS = ("format", "study", "asset_type", "unit", "fleet", "budget", "limit",
 STUDY_KEYS = ("title", "start_year", "horizon", "discount_rate", "end_value")
 TYPE_KEYS = (
     "id", "class", "price", "price_change", "buy_from", "buy_until",
-    "max_age", "om", "om_change", "salvage",
+    "max_age", "om", "om_change", "salvage", "usage_reference", "usage_max", "overhaul",
 )
-UNIT_KEYS = ("id", "type", "age", "count")
+OVERHAUL_KEYS = ("cost", "ages", "om_age_after", "adds_years")
+UNIT_KEYS = ("id", "type", "age", "count", "usage")
 FLEET_KEYS = ("file",)
 CSV_COLUMNS = ("id", "type", "age")
-CSV_OPTIONAL = ("count",)
+CSV_OPTIONAL = ("count", "usage")
 BUDGET_KEYS = ("cap", "cap_by_year", "basis")
 LIMIT_KEYS = ("class", "max_buys_per_year")
 SCENARIO_KEYS = ("id", "note", "set")

@@ -13,9 +13,9 @@ from .program import CohortProgram
 def flows_to_groups(prog: CohortProgram, x: np.ndarray, case: Case, uncapped_sols: dict) -> list[PathGroup]:
     """Assign integral cohort flows to unit names and return their paths.
 
-    Within a state the units keep their inventory order and the first ones are
-    sold; the year's sold units, oldest state first, take the year's purchases
-    in the case order of types.
+    Within a state the units keep their inventory order: the first ones are
+    sold, the next ones overhauled; the year's sold units of each job, oldest
+    state first, take the job's purchases in the case order of types.
     """
     H = case.study.horizon
     groups: dict = {}
@@ -31,28 +31,35 @@ def flows_to_groups(prog: CohortProgram, x: np.ndarray, case: Case, uncapped_sol
         for j, nm in enumerate(nm for u in case.units_of(cls) for nm in u.names()):
             order[nm] = j
         steps: dict[str, list] = {nm: [] for nm in order}
+        job = np.zeros(len(g.types), dtype=int) if g.job is None else g.job
         for k in range(H):
             nxt: dict[tuple[int, int], list[str]] = {}
-            sold: list[tuple[int, int, str]] = []
+            sold: dict[int, list[tuple[int, int, str]]] = {}
             for (t, a) in sorted(at, key=lambda s: (-s[1], s[0])):
                 names = sorted(at[(t, a)], key=order.__getitem__)
                 js = int(ci.sell[k][t, a]) if a < ci.sell.shape[2] else -1
                 n_sell = int(round(x[js])) if js >= 0 else 0
+                jo = int(ci.overhaul[k][t, a]) if ci.overhaul is not None and a < ci.overhaul.shape[2] else -1
+                n_ov = int(round(x[jo])) if jo >= 0 else 0
                 for nm in names[:n_sell]:
-                    sold.append((t, a, nm))
-                for nm in names[n_sell:]:
+                    sold.setdefault(int(job[t]), []).append((t, a, nm))
+                for nm in names[n_sell:n_sell + n_ov]:
+                    steps[nm].append(chain.Step(k, t, a, chain.OVERHAUL))
+                    nxt.setdefault(chain.next_state(g, t, a, chain.OVERHAUL), []).append(nm)
+                for nm in names[n_sell + n_ov:]:
                     steps[nm].append(chain.Step(k, t, a, chain.KEEP))
                     nxt.setdefault((t, a + 1), []).append(nm)
-            buys = []
+            buys: dict[int, list[int]] = {}
             for t2 in range(len(g.types)):
                 jb = int(ci.buy[k][t2])
                 if jb >= 0:
-                    buys.extend([t2] * int(round(x[jb])))
-            if len(buys) != len(sold):
-                raise RuntimeError(f"cohort flows do not balance in {cls} {case.study.start_year + k}")
-            for (t, a, nm), t2 in zip(sold, buys):
-                steps[nm].append(chain.Step(k, t, a, t2))
-                nxt.setdefault((t2, 1), []).append(nm)
+                    buys.setdefault(int(job[t2]), []).extend([t2] * int(round(x[jb])))
+            for j in set(sold) | set(buys):
+                if len(buys.get(j, [])) != len(sold.get(j, [])):
+                    raise RuntimeError(f"cohort flows do not balance in {cls} {case.study.start_year + k}")
+                for (t, a, nm), t2 in zip(sold.get(j, []), buys.get(j, [])):
+                    steps[nm].append(chain.Step(k, t, a, t2))
+                    nxt.setdefault((t2, 1), []).append(nm)
             at = nxt
         sol = uncapped_sols[cls]
         for nm, st in steps.items():
@@ -72,7 +79,7 @@ def fits_caps(plan: Plan, case: Case) -> bool:
     for lim in case.limits:
         for k in range(case.study.horizon):
             n = sum(1 for u in plan.units if u.class_ == lim.class_
-                    for e in u.events if e.year == case.study.start_year + k)
+                    for e in u.events if e.year == case.study.start_year + k and e.action != "overhaul")
             if n > lim.max_buys_per_year:
                 return False
     return True

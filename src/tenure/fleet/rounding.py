@@ -28,11 +28,13 @@ def _floors(prog: CohortProgram, x: np.ndarray, k: int):
     per_class = {}
     for cls, ci in prog.cols.items():
         keep, sell = ci.keep[k], ci.sell[k]
+        ov = ci.overhaul[k] if ci.overhaul is not None else None
         sells = {}
         for t, a in zip(*np.nonzero((sell >= 0) | (keep >= 0))):
             t, a = int(t), int(a)
             js, jk = int(sell[t, a]), int(keep[t, a])
-            n_in = (x[js] if js >= 0 else 0.0) + (x[jk] if jk >= 0 else 0.0)
+            jo = int(ov[t, a]) if ov is not None else -1
+            n_in = (x[js] if js >= 0 else 0.0) + (x[jk] if jk >= 0 else 0.0) + (x[jo] if jo >= 0 else 0.0)
             n_in = float(round(n_in))
             if jk < 0:
                 sv = n_in
@@ -46,12 +48,42 @@ def _floors(prog: CohortProgram, x: np.ndarray, k: int):
     return per_class, cands
 
 
-def _class_buys(prog: CohortProgram, x: np.ndarray, k: int, cls: str, n_sell: float) -> dict[int, float]:
-    """Whole purchases of year k in ``cls`` for ``n_sell`` sales: the LP's floors, then the largest
-    remainders (cheaper type first on ties); sales beyond the LP's purchases buy the cheapest type."""
+def _overhauls(prog: CohortProgram, x: np.ndarray, k: int, cls: str, sells: dict) -> dict:
+    """Whole overhauls of year k in ``cls`` per state: the LP's, rounded, at most the units not sold."""
+    ov = prog.cols[cls].overhaul
+    if ov is None:
+        return {}
+    out = {}
+    for (t, a), (sv, n_in) in sells.items():
+        jo = int(ov[k][t, a])
+        if jo >= 0:
+            out[(t, a)] = float(max(0.0, min(math.floor(x[jo] + 0.5), n_in - sv)))
+    return out
+
+
+def _buys(prog: CohortProgram, x: np.ndarray, k: int, cls: str, sells: dict) -> dict[int, float]:
+    """Whole purchases of year k in ``cls`` for the sales ``sells``: per job when the graph has jobs
+    (a replacement keeps the job's usage)."""
+    g = prog.graphs[cls]
+    if g.job is None:
+        return _class_buys(prog, x, k, cls, sum(v[0] for v in sells.values()))
+    out: dict[int, float] = {}
+    for j, rows in enumerate(g.job_rows()):
+        n = sum(v[0] for (t, _), v in sells.items() if g.job[t] == j)
+        out.update(_class_buys(prog, x, k, cls, n, rows))
+    return out
+
+
+def _class_buys(prog: CohortProgram, x: np.ndarray, k: int, cls: str, n_sell: float,
+                rows: np.ndarray | None = None) -> dict[int, float]:
+    """Whole purchases of year k in ``cls`` (among ``rows``, default all) for ``n_sell`` sales: the LP's
+    floors, then the largest remainders (cheaper type first on ties); sales beyond the LP's purchases
+    buy the cheapest type."""
     g = prog.graphs[cls]
     b = prog.cols[cls].buy[k]
     idx = np.flatnonzero(b >= 0)
+    if rows is not None:
+        idx = idx[np.isin(idx, rows)]
     if n_sell == 0 or len(idx) == 0:
         return {int(t): 0.0 for t in idx}
     lp = np.array([x[b[t]] for t in idx])
@@ -84,8 +116,9 @@ def _year_ok(prog: CohortProgram, x: np.ndarray, k: int, case: Case, choice: dic
     tot = 0.0
     for cls, sells in choice.items():
         g = prog.graphs[cls]
-        buys = _class_buys(prog, x, k, cls, sum(v[0] for v in sells.values()))
+        buys = _buys(prog, x, k, cls, sells)
         tot += sum(g.price[k, t] * v for t, v in buys.items())
+        tot += sum(g.overhaul_cost[k, t, a] * v for (t, a), v in _overhauls(prog, x, k, cls, sells).items())
         if net:
             tot -= sum(g.value[k, t, a] * v[0] for (t, a), v in sells.items())
     return tot <= cap + 1e-6
@@ -140,15 +173,17 @@ def _round_year(prog: CohortProgram, x: np.ndarray, k: int, case: Case, eager: i
     vals: dict[int, float] = {}
     for cls, sells in per_class.items():
         ci = prog.cols[cls]
-        n_sell = 0.0
+        ovs = _overhauls(prog, x, k, cls, sells)
         for (t, a), (sv, n_in) in sells.items():
             js, jk = int(ci.sell[k][t, a]), int(ci.keep[k][t, a])
+            no = ovs.get((t, a), 0.0)
             if js >= 0:
                 vals[js] = sv
             if jk >= 0:
-                vals[jk] = n_in - sv
-            n_sell += sv
-        for t, v in _class_buys(prog, x, k, cls, n_sell).items():
+                vals[jk] = n_in - sv - no
+            if no or (t, a) in ovs:
+                vals[int(ci.overhaul[k][t, a])] = no
+        for t, v in _buys(prog, x, k, cls, sells).items():
             vals[int(ci.buy[k][t])] = v
     return vals
 
