@@ -55,8 +55,11 @@ def cmd_life(args) -> int:
         raise UsageError(f"--year {year}: must be a calendar year")
     chosen = [case.type(args.type)] if args.type else [t for t in case.types if t.buyable(year)] or list(case.types)
     tables = [life_table(t, case.study.discount_rate, case.study.start_year, year, args.tolerance) for t in chosen]
+    rebuilt = _rebuild_lives(case, chosen, year, args.usage)
     if args.json:
-        payload = tables[0].to_dict() if len(tables) == 1 else [lt.to_dict() for lt in tables]
+        dicts = [dict(lt.to_dict(), **({"usage_overhaul": rebuilt[lt.type].to_dict()} if lt.type in rebuilt else {}))
+                 for lt in tables]
+        payload = dicts[0] if len(dicts) == 1 else dicts
         print(json.dumps(payload, indent=2))
         return 0
     for j, lt in enumerate(tables):
@@ -66,7 +69,31 @@ def cmd_life(args) -> int:
             print()
         print(text.life_text(lt, f"Economic life of {lt.type} ({t.class_}), bought {year}, "
                                  f"rate {case.study.discount_rate:.2%}{note}"))
+        if lt.type in rebuilt:
+            from .report.overhauls import rebuild_text
+
+            print(rebuild_text(rebuilt[lt.type]))
     return 0
+
+
+def _usage_arg(value) -> float | None:
+    if value is not None and not (value > 0):
+        raise UsageError(f"--usage {value!r}: must be a yearly usage > 0 (km, hours, … per year)")
+    return value
+
+
+def _rebuild_lives(case, chosen, year: int, usage) -> dict:
+    """EAC with and without the overhaul at ``usage`` (``--usage``) for the types that use either."""
+    from .rebuild import rebuild_life
+
+    usage = _usage_arg(usage)
+    out = {}
+    for t in chosen:
+        if usage is not None and t.usage_reference is None:
+            raise UsageError(f"--usage {usage:g}: type {t.id!r} has no usage_reference in {case.source}")
+        if usage is not None or t.overhaul is not None:
+            out[t.id] = rebuild_life(t, case.study.discount_rate, case.study.start_year, year, usage)
+    return out
 
 
 def _near(value: str, allowed: list[str]) -> str:
@@ -113,7 +140,17 @@ def cmd_policy(args) -> int:
     if args.type is not None and args.type not in ids:
         raise UsageError(f"--type {args.type!r}: not a type of class {args.class_!r}{_near(args.type, ids)} "
                          f"(types: {', '.join(ids)})")
-    g = chain.build_class_graph(case, args.class_)
+    usage = _usage_arg(args.usage)
+    if usage is not None:
+        from .derived import build_derived_graph
+
+        noref = [t.id for t in case.types_of(args.class_) if t.usage_reference is None]
+        if noref:
+            raise UsageError(f"--usage {usage:g}: type(s) {', '.join(noref)} of class {args.class_!r} have no "
+                             f"usage_reference in {case.source}")
+        g = build_derived_graph(case, args.class_, usages=(usage,))
+    else:
+        g = chain.build_class_graph(case, args.class_)
     sol = chain.backward(g)
     print(text.policy_text(sol, case, [args.type] if args.type else ids))
     return 0
@@ -241,6 +278,7 @@ def build_parser() -> argparse.ArgumentParser:
     c.add_argument("--year", type=int, help="purchase year (default: the study's start year)")
     c.add_argument("--tolerance", type=float, default=0.02, help="relative width of the near-optimal band (0.02)")
     c.add_argument("--json", action="store_true", help="print JSON instead of a table")
+    c.add_argument("--usage", type=float, help="yearly usage of the job (km, hours, …): EAC with and without overhaul")
     c.set_defaults(func=cmd_life)
 
     c = sub.add_parser("plan", help="least-cost renewal plan of the whole fleet (capped when the case has a budget)")
@@ -256,6 +294,7 @@ def build_parser() -> argparse.ArgumentParser:
     c.add_argument("case")
     c.add_argument("--class", dest="class_", required=True, help="class name")
     c.add_argument("--type", help="held type (default: every type of the class)")
+    c.add_argument("--usage", type=float, help="yearly usage of the job (km, hours, …; default: the reference)")
     c.set_defaults(func=cmd_policy)
 
     def solve_options(c):

@@ -48,8 +48,9 @@ def _floors(prog: CohortProgram, x: np.ndarray, k: int):
     return per_class, cands
 
 
-def _overhauls(prog: CohortProgram, x: np.ndarray, k: int, cls: str, sells: dict) -> dict:
-    """Whole overhauls of year k in ``cls`` per state: the LP's, rounded, at most the units not sold."""
+def _overhauls(prog: CohortProgram, x: np.ndarray, k: int, cls: str, sells: dict, up=frozenset()) -> dict:
+    """Whole overhauls of year k in ``cls`` per state: the LP's rounded down (up for the states in
+    ``up``), at most the units not sold."""
     ov = prog.cols[cls].overhaul
     if ov is None:
         return {}
@@ -57,8 +58,23 @@ def _overhauls(prog: CohortProgram, x: np.ndarray, k: int, cls: str, sells: dict
     for (t, a), (sv, n_in) in sells.items():
         jo = int(ov[k][t, a])
         if jo >= 0:
-            out[(t, a)] = float(max(0.0, min(math.floor(x[jo] + 0.5), n_in - sv)))
+            n = math.floor(x[jo] + 1e-6) + ((cls, (t, a)) in up and x[jo] - math.floor(x[jo] + 1e-6) > 1e-6)
+            out[(t, a)] = float(max(0.0, min(n, n_in - sv)))
     return out
+
+
+def _overhaul_candidates(prog: CohortProgram, x: np.ndarray, k: int) -> list:
+    """(fraction, class, state) of year k's fractional overhauls, largest fraction first."""
+    out = []
+    for cls, ci in prog.cols.items():
+        if ci.overhaul is None:
+            continue
+        for t, a in zip(*np.nonzero(ci.overhaul[k] >= 0)):
+            f = x[ci.overhaul[k][t, a]]
+            f -= math.floor(f + 1e-6)
+            if f > 1e-6:
+                out.append((float(f), cls, (int(t), int(a))))
+    return sorted(out, key=lambda c: (-c[0], c[1], c[2]))
 
 
 def _buys(prog: CohortProgram, x: np.ndarray, k: int, cls: str, sells: dict) -> dict[int, float]:
@@ -103,7 +119,7 @@ def _class_buys(prog: CohortProgram, x: np.ndarray, k: int, cls: str, n_sell: fl
     return {int(t): float(v) for t, v in zip(idx, base)}
 
 
-def _year_ok(prog: CohortProgram, x: np.ndarray, k: int, case: Case, choice: dict) -> bool:
+def _year_ok(prog: CohortProgram, x: np.ndarray, k: int, case: Case, choice: dict, up=frozenset()) -> bool:
     """True when the sales ``choice`` (and the purchases they imply) keep year k within its purchase
     limits and its cap (gross: prices; net: less the market values received)."""
     for cls, sells in choice.items():
@@ -118,7 +134,7 @@ def _year_ok(prog: CohortProgram, x: np.ndarray, k: int, case: Case, choice: dic
         g = prog.graphs[cls]
         buys = _buys(prog, x, k, cls, sells)
         tot += sum(g.price[k, t] * v for t, v in buys.items())
-        tot += sum(g.overhaul_cost[k, t, a] * v for (t, a), v in _overhauls(prog, x, k, cls, sells).items())
+        tot += sum(g.overhaul_cost[k, t, a] * v for (t, a), v in _overhauls(prog, x, k, cls, sells, up).items())
         if net:
             tot -= sum(g.value[k, t, a] * v[0] for (t, a), v in sells.items())
     return tot <= cap + 1e-6
@@ -158,8 +174,10 @@ def _round_year(prog: CohortProgram, x: np.ndarray, k: int, case: Case, eager: i
         cands.sort(key=lambda c: (-c[0], c[1], c[2]))
     threshold = 0.5 if eager == 0 else 1e-6
 
+    up: set = set()  # states whose fractional overhaul is rounded up
+
     def ok(choice):
-        return _year_ok(prog, x, k, case, choice)
+        return _year_ok(prog, x, k, case, choice, up)
 
     # the floors (and the forced sales) alone may break the cap or limit: then defer some
     if not ok(per_class) and not _defer(prog, x, k, per_class, ok):
@@ -170,10 +188,15 @@ def _round_year(prog: CohortProgram, x: np.ndarray, k: int, case: Case, eager: i
         per_class[cls][st][0] += 1
         if not ok(per_class):
             per_class[cls][st][0] -= 1
+    for frac, cls, st in _overhaul_candidates(prog, x, k):
+        if frac >= 0.5:
+            up.add((cls, st))
+            if not ok(per_class):
+                up.discard((cls, st))
     vals: dict[int, float] = {}
     for cls, sells in per_class.items():
         ci = prog.cols[cls]
-        ovs = _overhauls(prog, x, k, cls, sells)
+        ovs = _overhauls(prog, x, k, cls, sells, up)
         for (t, a), (sv, n_in) in sells.items():
             js, jk = int(ci.sell[k][t, a]), int(ci.keep[k][t, a])
             no = ovs.get((t, a), 0.0)

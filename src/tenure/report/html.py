@@ -30,6 +30,7 @@ from .. import __version__
 from ..model import AssetType, Case
 from ..scenarios import Comparison
 from . import charts
+from .overhauls import overhauls_html
 from .text import CAUTION
 
 _ENV = jinja2.Environment(loader=jinja2.PackageLoader("tenure.report", "templates"), autoescape=True,
@@ -234,8 +235,8 @@ def _buys_by_type(plan) -> Counter:
     c: Counter = Counter()
     for u in plan.units:
         for ev in u.events:
-            c[ev.type] += 1
-    return c
+            c[ev.type] += ev.action != "overhaul"
+    return +c
 
 
 def summary_html(plan, case: Case) -> str:
@@ -318,7 +319,7 @@ def first_years_html(plan, case: Case, n_years: int = 5) -> str:
     groups: dict[tuple, dict] = {}
     for u in plan.units:
         for ev in u.events:
-            if ev.year <= last:
+            if ev.year <= last and ev.action != "overhaul":
                 g = groups.setdefault((ev.year, u.class_, ev.from_type, ev.type),
                                       {"units": [], "ages": [], "price": 0.0, "value": 0.0})
                 g["units"].append(u.unit)
@@ -432,7 +433,7 @@ def plan_report(plan, case: Case, life_tables) -> str:
                   last=s.start_year + s.horizon - 1, horizon=s.horizon, unit_count=case.unit_count,
                   method=plan.method, status=plan.status, what=what,
                   capped=any(y.cap is not None for y in plan.years),
-                  summary=Markup(summary_html(plan, case)), first_years=Markup(first_years_html(plan, case)),
+                  summary=Markup(summary_html(plan, case)), first_years=Markup(first_years_html(plan, case) + overhauls_html(plan, case)),
                   charts=[(cid, ttl, read, Markup(svg)) for cid, ttl, read, svg in plan_charts(plan, case, life_tables)],
                   class_table=Markup(class_table_html(plan, case)), years_table=Markup(years_table_html(plan, case)),
                   assumptions=Markup(assumptions_html(case)), footer=Markup(footer_html(case)))

@@ -10,6 +10,7 @@ from collections import Counter
 
 from ..life import LifeTable
 from ..model import Case
+from .overhauls import overhaul_lines
 
 CAUTION = ("Planning aid only: inspections, manufacturer and regulatory retirement limits, and local "
            "procurement rules come first; decisions belong to qualified professionals.")
@@ -99,7 +100,8 @@ def plan_summary(plan, case: Case, out_dir: str | None = None, written: list[str
     for u in plan.units:
         c = by_cls.setdefault(u.class_, Counter())
         for e in u.events:
-            c[e.type] += 1
+            c[e.type] += e.action != "overhaul"
+        by_cls[u.class_] = +c
     lines.append("")
     lines.append(f"{'replacements':<26}{'by type bought'}")
     for cls in case.classes:
@@ -107,6 +109,7 @@ def plan_summary(plan, case: Case, out_dir: str | None = None, written: list[str
             continue
         mix = ", ".join(f"{t} {n}" for t, n in by_cls[cls].items()) or "none"
         lines.append(f"  {cls:<24}{sum(by_cls[cls].values()):>4}   {mix}")
+    lines += overhaul_lines(plan)
     lines.append("")
     lines.append(f"{'period':<12}{'capital':>14}{'buys':>7}{'market value in':>18}{'O&M':>14}")
     for k0 in range(0, s.horizon, 5):
@@ -152,7 +155,7 @@ def plan_summary(plan, case: Case, out_dir: str | None = None, written: list[str
 
 def policy_text(sol, case: Case, type_ids: list[str]) -> str:
     """Optimal action by planning year (columns) and age (rows) for units of each type in ``type_ids``."""
-    from ..chain import KEEP
+    from ..chain import KEEP, OVERHAUL
 
     g = sol.graph
     y0 = g.start_year
@@ -167,9 +170,11 @@ def policy_text(sol, case: Case, type_ids: list[str]) -> str:
                    "columns: year")
         out.append("age " + "".join(f"{(y0 + k) % 100:>3}" for k in range(H)))
         for a in range(0, int(g.max_age[t]) + 1):
-            cells = "".join(("·" if int(sol.policy[k, t, a]) == KEEP else code[g.types[int(sol.policy[k, t, a])]])
-                            .rjust(3) for k in range(H))
+            cells = "".join(("·" if int(sol.policy[k, t, a]) == KEEP else "+" if int(sol.policy[k, t, a]) == OVERHAUL
+                             else code[g.types[int(sol.policy[k, t, a])]]).rjust(3) for k in range(H))
             out.append(f"{a:>3} {cells}")
     out.append("")
+    if g.overhaul_to is not None:
+        out.append("'+': overhaul the unit (rows of overhauled units are not shown)")
     out.append("columns are the last two digits of the calendar year; the policy ignores caps and limits")
     return "\n".join(out)
