@@ -322,9 +322,7 @@ def backward(g: StageGraph, buy_pw: np.ndarray | None = None, sale_pw: np.ndarra
     use_keep = np.empty((T, A1), dtype=bool)
     rep_tol = np.empty((T, A1))
     jobs = None if g.job is None else g.job_rows()
-    ov = None if g.overhaul_to is None else np.nonzero(g.overhaul_to >= 0)
-    if ov is not None and len(ov[0]) == 0:
-        ov = None
+    ov = None if g.overhaul_to is None else _overhaul_arcs(g, A1)
     # Values of ages past a type's max age are never read by a valid state (their keep arcs
     # are inf and purchases enter at age 1), so they are masked once after the loop.
     for k in range(H - 1, -1, -1):
@@ -340,7 +338,7 @@ def backward(g: StageGraph, buy_pw: np.ndarray | None = None, sale_pw: np.ndarra
         alt = rep
         if ov is not None:  # replace_value keeps the pure replace value (flexibility reads it)
             alt = rep.copy()
-            _overhaul_step(g, k, nxt, ov, alt, pol[k], tol)
+            _overhaul_step(k, nxt, ov, alt, pol[k], tol)
         np.add(alt, tol, out=rep_tol)
         np.less_equal(keep, rep_tol, out=use_keep)
         np.copyto(V[k], alt)
@@ -360,15 +358,23 @@ def _replace_by_job(buy: np.ndarray, nxt: np.ndarray, sale: np.ndarray, jobs, re
         pol[rows] = rows[j] if j >= 0 else -1
 
 
-def _overhaul_step(g: StageGraph, k: int, nxt: np.ndarray, ov, rep: np.ndarray, pol: np.ndarray,
-                   tol: float) -> None:
+def _overhaul_arcs(g: StageGraph, A1: int):
+    """The overhaul arcs as flat indices: (source states, target states, their present costs (H, n))."""
+    t, a = np.nonzero(g.overhaul_to >= 0)
+    if len(t) == 0:
+        return None
+    return t * A1 + a, g.overhaul_to[t, a] * A1 + a + 1, g.overhaul_pw[:, t, a]
+
+
+def _overhaul_step(k: int, nxt: np.ndarray, ov, rep: np.ndarray, pol: np.ndarray, tol: float) -> None:
     """Where an overhaul beats replacing (ties to the overhaul), write its value and OVERHAUL into
     ``rep``/``pol`` (keep is compared afterwards, so keep still wins ties)."""
-    t, a = ov
-    val = g.overhaul_pw[k, t, a] + nxt[g.overhaul_to[t, a], a + 1]
-    better = val <= rep[t, a] + tol
-    rep[t[better], a[better]] = val[better]
-    pol[t[better], a[better]] = OVERHAUL
+    src, dst, pw = ov
+    val = pw[k] + nxt.ravel()[dst]
+    r = rep.ravel()
+    better = val <= r[src] + tol
+    r[src[better]] = val[better]
+    pol.ravel()[src[better]] = OVERHAUL
 
 
 @dataclass(frozen=True)
