@@ -65,7 +65,7 @@ def _max_age(t, usage, oh):
     return m + (t.overhaul.adds_years if oh is not None else 0)
 
 
-def _value(t, age, year, usage):
+def _value(t, age, year, usage, y0=Y0):
     """Value curve at equivalent age age·ρ (lists interpolated, held at the last figure) × current price."""
     eq = age * _rho(t, usage)
     c = t.salvage
@@ -78,11 +78,11 @@ def _value(t, age, year, usage):
         lo = min(int(math.floor(eq)), len(tab) - 1)
         hi = min(lo + 1, len(tab) - 1)
         f = (tab[lo] + (tab[hi] - tab[lo]) * (eq - lo if hi > lo else 0.0)) / t.price
-    return f * t.price * (1 + t.price_change) ** (year - Y0)
+    return f * t.price * (1 + t.price_change) ** (year - y0)
 
 
-def _om(t, service_year, vintage, usage):
-    return float(curves.om_base(t.om, service_year)) * (1 + t.om_change) ** (vintage - Y0) * _rho(t, usage)
+def _om(t, service_year, vintage, usage, y0=Y0):
+    return float(curves.om_base(t.om, service_year)) * (1 + t.om_change) ** (vintage - y0) * _rho(t, usage)
 
 
 def options(case, state, k):
@@ -102,18 +102,18 @@ def options(case, state, k):
 state_usage = [None]  # the job's usage while a schedule is enumerated
 
 
-def step(state, act, k, usage, i):
+def step(state, act, k, usage, i, y0=Y0):
     """(next state, present cost at time 0, capital paid at k) of one year's action."""
     t, a, oh = state
     v0, v1 = (1 + i) ** -k, (1 + i) ** -(k + 1)
     if act == "keep":
         served = a + 1 if oh is None else t.overhaul.om_age_after + (a + 1 - oh)
-        return (t, a + 1, oh), _om(t, served, Y0 + k - a, usage) * v1, 0.0
+        return (t, a + 1, oh), _om(t, served, y0 + k - a, usage, y0) * v1, 0.0
     if act == "overhaul":
         c = t.overhaul.cost
-        return (t, a + 1, a), c * v0 + _om(t, t.overhaul.om_age_after + 1, Y0 + k - a, usage) * v1, c
+        return (t, a + 1, a), c * v0 + _om(t, t.overhaul.om_age_after + 1, y0 + k - a, usage, y0) * v1, c
     p = act.price * (1 + act.price_change) ** k
-    cost = (p - _value(t, a, Y0 + k, usage)) * v0 + _om(act, 1, Y0 + k, usage) * v1
+    cost = (p - _value(t, a, y0 + k, usage, y0)) * v0 + _om(act, 1, y0 + k, usage, y0) * v1
     return (act, 1, None), cost, p
 
 
@@ -373,3 +373,110 @@ def test_usage_levels_rounded_to_a_grid():
     g = chain.build_class_graph(case, "bus")
     assert g.job_usage == (30000.0,)
     assert list(starting_states(case, {"bus": g})["bus"]) == [(g.start_row("bus", 30000.0), 1)]
+
+
+# ---------------------------------------------------------------------------
+# the demo, the command line and the stationary EAC with and without the overhaul
+# ---------------------------------------------------------------------------
+def _recost_units(case, plan):
+    """Present cost of every unit replayed from units.csv with the independent pricer."""
+    rows = list(csv.DictReader(io.StringIO(units_csv(plan))))
+    y0, H, i = case.study.start_year, case.study.horizon, case.study.discount_rate
+    usage = {n: u.usage for u in case.units for n in u.names()}
+    by_unit: dict = {}
+    for r in rows:
+        if r["year"]:
+            by_unit.setdefault(r["unit"], {})[int(r["year"])] = r
+    out = {}
+    for u in plan.units:
+        state = (case.type(u.start_type), u.start_age, None)
+        pv = 0.0
+        for k in range(H):
+            r = by_unit.get(u.unit, {}).get(y0 + k)
+            act = "keep" if r is None else ("overhaul" if r["action"] == "overhaul" else case.type(r["type"]))
+            state, c, _ = step(state, act, k, usage[u.unit], i, y0)
+            pv += c
+        out[u.unit] = pv - _value(state[0], state[1], y0 + H, usage[u.unit], y0) * (1 + i) ** -H
+    return out
+
+
+def test_demo_with_usage_and_overhaul_recosted_from_units_csv():
+    """The demo (buses with an overhaul option, pickups with a usage column), capped: units.csv
+    replayed with the independent pricer gives every unit's and the plan's present cost, buses are
+    overhauled, and the report shows where."""
+    from casekit import DEMO
+    from tenure.case import load_case
+    from tenure.report.overhauls import overhaul_groups, overhauls_html
+
+    case = load_case(DEMO)
+    assert {u.usage for u in case.units if u.type == "pu-gasoline"} == {None, 12000, 16000, 26000, 32000}
+    assert case.type("bus-diesel").overhaul.ages == range(7, 11)
+    plan = solve.solve(case, time_limit=60)
+    assert plan.success
+    costs = _recost_units(case, plan)
+    for u in plan.units:
+        assert costs[u.unit] == pytest.approx(u.present_cost, rel=1e-9)
+    assert sum(costs.values()) == pytest.approx(plan.present_cost, rel=1e-9)
+    groups = overhaul_groups(plan)
+    assert groups and all(t == "bus-diesel" and 7 <= a <= 10 for _, _, t, a, _, _ in groups)
+    html = overhauls_html(plan, case)
+    assert "<h3>Overhauls</h3>" in html and str(groups[0][0]) in html
+
+
+def test_rebuild_life_without_overhaul_equals_the_life_table():
+    """At the reference usage the EAC without overhaul is the life table's (Sullivan, Wicks & Koelling,
+    replacement analysis: EAC = P(A/P) − S(A/F) + PW(O&M)(A/P), from memory), and with the overhaul
+    each EAC is the present worth of its cash flows times numpy-financial's capital recovery factor."""
+    import numpy_financial as npf
+
+    from tenure.life import life_table
+    from tenure.rebuild import rebuild_life
+
+    case = build_case(bus_doc())
+    t = case.type("bus")
+    r = rebuild_life(t, 0.06, Y0, Y0, None)
+    lt = life_table(t, 0.06, Y0, Y0)
+    assert np.allclose(r.eac_without, lt.eac_total, rtol=1e-12)
+    ao, n = 4, 10
+    cash = [-t.price] + [-_om(t, a if a <= ao else 1 + a - ao, Y0, None) for a in range(1, n + 1)]
+    cash[ao] -= 30000
+    cash[n] += _value(t, n, Y0 + n, None)
+    eac = npf.pmt(0.06, n, npf.npv(0.06, cash))  # pmt of a negative present worth is the positive EAC
+    assert r.eac_with[(ao, n)] == pytest.approx(eac, rel=1e-9)
+    assert r.min_with == min(r.eac_with.values())
+    at = rebuild_life(t, 0.06, Y0, Y0, 80000.0)
+    assert at.max_age == 5 and len(at.eac_without) == 5
+    assert all(a < 5 and n <= 8 for a, n in at.eac_with)
+
+
+def test_cli_life_and_policy_take_usage(tmp_path, capsys):
+    from casekit import to_toml
+    from tenure.cli import main
+
+    p = tmp_path / "b.toml"
+    p.write_text(to_toml(bus_doc()), encoding="utf-8")
+    assert main(["life", str(p), "--usage", "80000"]) == 0
+    out = capsys.readouterr().out
+    assert "at usage 80,000 per year: max age 5" in out and "with overhaul: overhaul at age" in out
+    assert main(["policy", str(p), "--class", "bus", "--usage", "80000"]) == 0
+    out = capsys.readouterr().out
+    assert "held type bus (max age 5)" in out and "'+': overhaul" in out
+    assert main(["policy", str(p), "--class", "bus", "--usage", "-3"]) == 2
+    assert "--usage -3" in capsys.readouterr().err
+
+
+def test_csv_usage_column_is_read_and_checked(tmp_path):
+    from tenure.case import load_case
+
+    doc = bus_doc()
+    doc.pop("unit")
+    doc["fleet"] = {"file": "f.csv"}
+    from casekit import to_toml
+    (tmp_path / "c.toml").write_text(to_toml(doc), encoding="utf-8")
+    (tmp_path / "f.csv").write_text("id,type,age,count,usage\nA,bus,2,1,\nB,bus,3,2,30000\n", encoding="utf-8")
+    case = load_case(tmp_path / "c.toml")
+    assert [(u.id, u.usage) for u in case.units] == [("A", None), ("B", 30000.0)]
+    (tmp_path / "f.csv").write_text("id,type,age,usage\nA,bus,2,lots\n", encoding="utf-8")
+    with pytest.raises(CaseError) as err:
+        load_case(tmp_path / "c.toml")
+    assert any("row 2.usage" in str(p) and "'lots'" in str(p) for p in err.value.problems)
