@@ -480,3 +480,20 @@ def test_csv_usage_column_is_read_and_checked(tmp_path):
     with pytest.raises(CaseError) as err:
         load_case(tmp_path / "c.toml")
     assert any("row 2.usage" in str(p) and "'lots'" in str(p) for p in err.value.problems)
+
+
+def test_scenario_recost_of_a_usage_and_overhaul_plan_equals_its_cost():
+    """The scenario layer re-costs a plan with usage jobs and overhauls under its own case at the
+    plan's present cost (the same rules, docs/conventions.md), and flags an overhaul the other
+    case does not allow."""
+    from tenure import scenarios as sc
+
+    case = _fleet_case(400000)
+    plan = solve.solve(case, time_limit=60).to_dict()
+    r = sc.recost(plan, case)
+    assert r.cost == pytest.approx(plan["present_cost"], abs=0.01)
+    assert not r.breaks
+    doc = copy.deepcopy(dict(case.raw))
+    doc["asset_type"][0].pop("overhaul")
+    other = build_case(doc)
+    assert any("overhauls a bus at age" in m for m in sc.recost(plan, other).breaks)
