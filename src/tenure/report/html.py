@@ -360,9 +360,10 @@ def class_table_html(plan, case: Case) -> str:
     rows = []
     for c, v in (plan.by_class or {}).items():
         n = sum(1 for u in plan.units if u.class_ == c)
-        buys = sum(len(u.events) for u in plan.units if u.class_ == c)
+        buys = sum(e.action != "overhaul" for u in plan.units if u.class_ == c for e in u.events)
         rows.append((c, n, buys, money(v)))
-    rows.append(("all classes", len(plan.units), sum(len(u.events) for u in plan.units), money(plan.present_cost)))
+    rows.append(("all classes", len(plan.units), sum(e.action != "overhaul" for u in plan.units for e in u.events),
+                 money(plan.present_cost)))
     return table(("class", "units", "replacements", "present cost"), rows, num=(1, 2, 3))
 
 

@@ -40,7 +40,7 @@ def overhauls_html(plan, case: Case) -> str:
             f"undiscounted, in constant {case.study.start_year} currency, counted as capital against the cap. "
             "An overhaul never overrides an inspection or a manufacturer's or regulator's retirement limit.</p>"
             "<table><thead><tr><th>year</th><th>class</th><th>type</th><th>age</th><th>units</th>"
-            "<th>overhaul cost</th><th>units</th></tr></thead><tbody>" + body + "</tbody></table>")
+            "<th>overhaul cost</th><th>which</th></tr></thead><tbody>" + body + "</tbody></table>")
 
 
 def overhaul_lines(plan) -> list[str]:
