@@ -12,6 +12,10 @@ year ``k``) a unit of type ``t`` and age ``a`` is held; its vintage is
   buyable in year ``k``; cost: ``price(t', k) − value(t, a, k)`` at ``k`` plus
   the new unit's first-year O&M at ``k+1``.
 
+- *overhaul* (classes with derived rows, ``tenure.derived``) → ``(k+1, overhaul_to[t, a], a+1)``;
+  cost: the overhaul at ``k`` plus the next year's O&M at ``k+1``.  With usage levels
+  (jobs) a replacement enters a buyable row of the unit's own job.
+
 States at ``k = H`` carry the end value (docs/conventions.md).  Every cost is
 discounted to time 0.
 
