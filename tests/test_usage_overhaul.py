@@ -502,3 +502,24 @@ def test_scenario_recost_of_a_usage_and_overhaul_plan_equals_its_cost():
     doc["asset_type"][0].pop("overhaul")
     other = build_case(doc)
     assert any("overhauls a bus at age" in m for m in sc.recost(plan, other).breaks)
+
+
+def test_rounding_never_shortens_a_units_usage_limited_life():
+    """usage_max 211,600 km at 26,300 km/year allows floor(8.046) = 8 years. The nearest point of the
+    500 km grid (1 % of 50,000) is 26,500, which would allow floor(7.985) = 7: the unit, aged 8, is
+    put on 26,000 instead (floor(8.138) = 8), so its starting state exists."""
+    from tenure import derived
+
+    doc = bus_doc(units=[{"id": "A", "type": "bus", "age": 8, "usage": 26300}])
+    doc["asset_type"][0]["usage_max"] = 211600
+    case = build_case(doc)
+    assert derived.job_usage(case, case.units[0], derived.usage_grid(case, "bus")) == 26000.0
+    g = chain.build_class_graph(case, "bus")
+    (t, a), = starting_states(case, {"bus": g})["bus"]
+    assert a == 8 == g.max_age[t]
+    doc["unit"][0].update(usage=26200, age=7)  # 26,200 → 26,000 (nearest; no limit crossed)
+    assert derived.job_usage(build_case(doc), build_case(doc).units[0], 0.01) == 26000.0
+    doc["unit"][0].update(usage=26260)  # nearest 26,500 allows 7 < floor(211600/26260) = 8: down to 26,000
+    assert derived.job_usage(build_case(doc), build_case(doc).units[0], 0.01) == 26000.0
+    doc["unit"][0].update(usage=26700)  # floor(7.925) = 7; nearest 26,500 (7.985 → 7) shortens nothing
+    assert derived.job_usage(build_case(doc), build_case(doc).units[0], 0.01) == 26500.0

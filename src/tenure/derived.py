@@ -28,8 +28,8 @@ common practice):
 - overhaul arc (k, r, a) → (k+1, r_o(a_o = a), a+1): the overhaul cost at k
   (capital, constant start-year money) plus the O&M of the year after it at k+1.
 
-Usage levels are rounded to a grid of 1 % of the unit's type's
-``usage_reference``; when a class has more than :data:`MAX_LEVELS` distinct
+Usage levels are rounded to the nearest point of a grid of 1 % of the unit's type's
+``usage_reference`` (down when rounding up would shorten the unit's usage-limited max age); when a class has more than :data:`MAX_LEVELS` distinct
 levels the grid is widened (2 %, 5 %, 10 %, 20 %, 50 %) until it has at most that many.
 """
 
@@ -81,7 +81,12 @@ def job_usage(case: Case, unit, grid: float | None) -> float | None:
     """The rounded usage level of a unit's job (None: the reference job)."""
     if unit.usage is None or grid is None:
         return None
-    return _round(unit.usage, grid * _ref_of(case, unit.type))
+    step = grid * _ref_of(case, unit.type)
+    u = _round(unit.usage, step)
+    t = case.type(unit.type)
+    if row_max_age(t, u, False) < row_max_age(t, unit.usage, False):
+        u = float(math.floor(unit.usage / step) * step)  # never shorten the unit's usage-limited life
+    return u
 
 
 def class_jobs(case: Case, class_: str) -> tuple:
