@@ -18,7 +18,6 @@ from __future__ import annotations
 import copy
 import csv
 import io
-import itertools
 import math
 
 import networkx as nx

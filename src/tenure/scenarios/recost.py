@@ -114,11 +114,7 @@ def recost(plan_dict: Mapping, case: Case) -> Recost:
         for k in range(H):
             y = y0 + k
             if y in ovh:
-                if t.overhaul is None or oh is not None or a not in t.overhaul.ages:
-                    broken[f"{y}: overhauls a {t.id} at age {a}, which the scenario does not allow"] += 1
-                    ov = t.overhaul or Overhaul(0.0, a, a, a, 0)
-                else:
-                    ov = t.overhaul
+                ov = _overhaul_of(t, a, oh, y, broken)
                 total += v[k] * ov.cost + v[k + 1] * curves.om(t, ov.om_age_after + 1, y - a, y0) * derived.ratio(t, u)
                 capital[k] += ov.cost
                 oh, a = a, a + 1
@@ -144,18 +140,35 @@ def recost(plan_dict: Mapping, case: Case) -> Recost:
                 served = a + 1 if oh is None else ov.om_age_after + a + 1 - oh
                 total += v[k + 1] * curves.om(t, served, y - a, y0) * derived.ratio(t, u)
                 a += 1
-        y_end = y0 + H
-        if s.end_value == "salvage":
-            total -= v[H] * float(derived.value_at(t, a, y_end, y0, derived.ratio(t, u)))
-        elif oh is not None or derived.ratio(t, u) != 1.0 or derived.row_max_age(t, u, False) != t.max_age:
-            total += v[H] * (chain_costs[t.class_] - float(derived.value_at(t, a, y_end, y0, derived.ratio(t, u))))
-        else:
-            a_end = min(a, t.max_age)
-            total += v[H] * life.continuing_cost(t, a_end, y_end - a_end, chain_costs[t.class_], rate, y0, y_end)
+        total += v[H] * _end_cost(case, t, a, oh, u, chain_costs.get(t.class_))
     _budget_breaks(case, capital, proceeds, buys, broken)
     msgs = tuple(m if n == 1 or "cap" in m or "limit" in m else f"{m} ({n} units)"
                  for m, n in sorted(broken.items(), key=lambda kv: kv[0][:4]))
     return Recost(float(total), msgs)
+
+
+def _overhaul_of(t, a: int, oh, y: int, broken: Counter) -> Overhaul:
+    """The overhaul a plan does to a ``t`` at age ``a`` in ``y``; counted in ``broken`` when ``t`` has
+    none, the unit was overhauled before or the age is not allowed (it is then priced as free)."""
+    if t.overhaul is None or oh is not None or a not in t.overhaul.ages:
+        broken[f"{y}: overhauls a {t.id} at age {a}, which the scenario does not allow"] += 1
+        return t.overhaul or Overhaul(0.0, a, a, a, 0)
+    return t.overhaul
+
+
+def _end_cost(case: Case, t, a: int, oh, u, chain_cost) -> float:
+    """End value of holding a ``t`` of age ``a`` at the end [money at the end year, a cost]: minus its
+    market value, or (continuing) its continuing cost; a unit off the reference usage or overhauled is
+    sold and followed by the best chain, as in ``tenure.derived``."""
+    s = case.study
+    y0, y_end = s.start_year, s.start_year + s.horizon
+    mv = float(derived.value_at(t, a, y_end, y0, derived.ratio(t, u)))
+    if s.end_value == "salvage":
+        return -mv
+    if oh is not None or derived.ratio(t, u) != 1.0 or derived.row_max_age(t, u, False) != t.max_age:
+        return chain_cost - mv
+    a_end = min(a, t.max_age)
+    return life.continuing_cost(t, a_end, y_end - a_end, chain_cost, s.discount_rate, y0, y_end)
 
 
 def _budget_breaks(case: Case, capital, proceeds, buys, broken: Counter) -> None:
