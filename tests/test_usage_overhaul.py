@@ -522,3 +522,20 @@ def test_rounding_never_shortens_a_units_usage_limited_life():
     assert derived.job_usage(build_case(doc), build_case(doc).units[0], 0.01) == 26000.0
     doc["unit"][0].update(usage=26700)  # floor(7.925) = 7; nearest 26,500 (7.985 → 7) shortens nothing
     assert derived.job_usage(build_case(doc), build_case(doc).units[0], 0.01) == 26500.0
+
+
+def test_continuing_end_value_with_usage_and_overhaul_recosts_equal():
+    """Under the "continuing" end value, the plan's present cost (graph tables, tenure.derived) equals
+    the scenario layer's re-costing of its schedule (curves, the rule of docs/conventions.md "Usage")."""
+    from tenure import scenarios as sc
+
+    units = [{"id": "A", "type": "bus", "age": 2}, {"id": "B", "type": "bus", "age": 4, "usage": 70000},
+             {"id": "C", "type": "bus", "age": 1, "usage": 30000}]
+    doc = bus_doc(horizon=6, units=units)
+    doc["study"]["end_value"] = "continuing"
+    case = build_case(doc)
+    plan = solve.solve(case).to_dict()
+    r = sc.recost(plan, case)
+    assert not r.breaks
+    assert r.cost == pytest.approx(plan["present_cost"], abs=0.01)
+    assert any(e["action"] == "overhaul" for u in plan["units"] for e in u["events"])
