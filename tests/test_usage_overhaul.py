@@ -465,6 +465,7 @@ def test_cli_life_and_policy_take_usage(tmp_path, capsys):
     assert main(["policy", str(p), "--class", "bus", "--usage", "80000"]) == 0
     out = capsys.readouterr().out
     assert "held type bus (max age 5)" in out and "'+': overhaul" in out
+    assert "types: A = bus\n" in out  # the derived rows share their type's letter
     assert main(["policy", str(p), "--class", "bus", "--usage", "-3"]) == 2
     assert "--usage -3" in capsys.readouterr().err
 

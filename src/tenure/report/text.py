@@ -160,9 +160,10 @@ def policy_text(sol, case: Case, type_ids: list[str]) -> str:
     g = sol.graph
     y0 = g.start_year
     H = g.horizon
-    code = {t: chr(ord("A") + j) for j, t in enumerate(g.types)}
+    ids = list(dict.fromkeys(g.types))  # derived rows (tenure.derived) repeat their type's id
+    code = {t: chr(ord("A") + j) for j, t in enumerate(ids)}
     out = [f"Policy for class {g.class_}: '·' keep; a letter: sell the unit and buy that type",
-           "types: " + ", ".join(f"{code[t]} = {t}" for t in g.types)]
+           "types: " + ", ".join(f"{code[t]} = {t}" for t in ids)]
     for tid in type_ids:
         t = g.type_index(tid)
         out.append("")
