@@ -651,6 +651,13 @@ def demo_cases():
     raw = copy.deepcopy(dict(q.raw))
     raw.pop("budget", None)
     raw.pop("limit", None)
+    # these checks price schedules without usage or overhaul: the demo's usage column and bus overhaul
+    # are checked against the same kind of re-costing in tests/test_usage_overhaul.py
+    for t in raw["asset_type"]:
+        for key in ("usage_reference", "usage_max", "overhaul"):
+            t.pop(key, None)
+    for u in raw["unit"]:
+        u.pop("usage", None)
     q_uncapped = build_case(raw, source="quillmere-fleet (uncapped)")
     assert not demo.capped and not q_uncapped.capped
     return {"uncapped-demo": demo, "quillmere-uncapped": q_uncapped}

@@ -219,12 +219,12 @@ def spend_from_units_csv(out_dir: Path, years) -> dict:
     rows = 0
     with open(out_dir / "units.csv", newline="", encoding="utf-8") as fh:
         for r in csv.DictReader(fh):
-            if r["action"] != "replace":
+            if r["action"] not in ("replace", "overhaul"):
                 continue
             y = int(r["year"])
-            gross[y] += float(r["price"])
+            gross[y] += float(r["price"])  # an overhaul's cost is capital of its year (docs/conventions.md)
             sold[y] += float(r["market_value"])
-            buys[(r["class"], y)] += 1
+            buys[(r["class"], y)] += r["action"] == "replace"
             rows += 1
     return {"gross": gross, "sold": sold, "buys": buys, "rows": rows}
 

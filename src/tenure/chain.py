@@ -12,6 +12,10 @@ year ``k``) a unit of type ``t`` and age ``a`` is held; its vintage is
   buyable in year ``k``; cost: ``price(t', k) − value(t, a, k)`` at ``k`` plus
   the new unit's first-year O&M at ``k+1``.
 
+- *overhaul* (classes with derived rows, ``tenure.derived``) → ``(k+1, overhaul_to[t, a], a+1)``;
+  cost: the overhaul at ``k`` plus the next year's O&M at ``k+1``.  With usage levels
+  (jobs) a replacement enters a buyable row of the unit's own job.
+
 States at ``k = H`` carry the end value (docs/conventions.md).  Every cost is
 discounted to time 0.  With ``[study] tax_rate`` the arc costs are after tax
 (docs/conventions.md, "Income tax"; the pieces come from :mod:`tenure.tax`):
@@ -54,6 +58,8 @@ KEEP = -1
 SELL = -2
 #: type and age of the first step of a unit bought without a sale (a class grows or an order adds)
 NEW = -1
+#: policy code of an overhaul (tenure.derived): to (k+1, overhaul_to[t, a], a+1)
+OVERHAUL = -3
 #: relative tolerance under which two costs count as tied (keep wins, then case order)
 TIE = 1e-9
 
@@ -109,6 +115,12 @@ class StageGraph:
     carbon_price : float
         Money per tonne [money/t]; ``keep_pw`` and ``buy_pw`` include
         ``carbon_price·tonnes`` paid at k+1, like O&M.
+    job, job_usage, base, overhauled_at, overhaul_to, overhaul_cost, om_overhaul, overhaul_pw, labels
+        Only on graphs with derived rows (``tenure.derived``; None otherwise): the job of each row
+        (a replacement enters a buyable row of the same job), the usage of each job, the case type
+        of each row, the age it was overhauled at (−1), the overhaul arc's target row by (t, a)
+        (−1: none), its capital [money] and next-year O&M [money] by (k, t, a), its present cost
+        (inf: none) and a unique name per row.
     """
 
     class_: str
@@ -136,6 +148,15 @@ class StageGraph:
     tonnes_keep: np.ndarray | None = None
     tonnes_new: np.ndarray | None = None
     carbon_price: float = 0.0
+    job: np.ndarray | None = None
+    job_usage: tuple | None = None
+    base: np.ndarray | None = None
+    overhauled_at: np.ndarray | None = None
+    overhaul_to: np.ndarray | None = None
+    overhaul_cost: np.ndarray | None = None
+    om_overhaul: np.ndarray | None = None
+    overhaul_pw: np.ndarray | None = None
+    labels: tuple | None = None
 
     @property
     def ages(self) -> int:
@@ -145,6 +166,26 @@ class StageGraph:
     def type_index(self, type_id: str) -> int:
         return self.types.index(type_id)
 
+    def row_label(self, t: int) -> str:
+        """A unique name of row t (the type id unless the graph has derived rows)."""
+        return self.types[t] if self.labels is None else self.labels[t]
+
+    def start_row(self, type_id: str, usage=None) -> int:
+        """Row of a not-overhauled unit of ``type_id`` doing the job of (rounded) ``usage``."""
+        if self.job is None:
+            return self.types.index(type_id)
+        j = self.job_usage.index(usage)
+        for r, tid in enumerate(self.types):
+            if tid == type_id and self.job[r] == j and self.overhauled_at[r] < 0:
+                return r
+        raise KeyError((type_id, usage))
+
+    def job_rows(self) -> list[np.ndarray]:
+        """The rows of each job (all rows in one job without derived rows)."""
+        if self.job is None:
+            return [np.arange(len(self.types))]
+        return [np.flatnonzero(self.job == j) for j in range(len(self.job_usage))]
+
     def reachable(self, starts) -> np.ndarray:
         """Bool (H+1, T, A+1): states reachable from the starting states ``[(t, a), …]``."""
         H, (T, A1) = self.horizon, self.valid.shape
@@ -152,10 +193,16 @@ class StageGraph:
         for t, a in starts:
             r[0, t, a] = True
         keep_ok = self.valid & (np.arange(A1)[None, :] < self.max_age[:, None])
+        jobs = self.job_rows()
+        ov = None if self.overhaul_to is None else np.nonzero(self.overhaul_to >= 0)
         for k in range(H):
             r[k + 1, :, 1:] |= r[k, :, :-1] & keep_ok[:, :-1]
-            if r[k].any():
-                r[k + 1, :, 1] |= self.buyable[k]
+            for rows in jobs:
+                if r[k, rows].any():
+                    r[k + 1, rows, 1] |= self.buyable[k, rows]
+            if ov is not None:
+                src = r[k][ov]
+                r[k + 1, self.overhaul_to[ov][src], ov[1][src] + 1] = True
         return r
 
 
@@ -171,7 +218,12 @@ def build_class_graph(case: Case, class_: str) -> StageGraph:
     Returns
     -------
     StageGraph
+        With derived job/overhaul rows (``tenure.derived``) when the class uses usage or overhauls.
     """
+    from . import derived
+
+    if derived.has_derived(case, class_):
+        return derived.build_derived_graph(case, class_)
     s = case.study
     H, y0, i = s.horizon, s.start_year, s.discount_rate
     types = case.types_of(class_)
@@ -329,9 +381,11 @@ def backward(g: StageGraph, buy_pw: np.ndarray | None = None, sale_pw: np.ndarra
 
         keep(k,t,a)    = keep_pw[k,t,a] + V_{k+1}(t, a+1)
         replace(k,t,a) = min_t' (buy_pw[k,t'] + V_{k+1}(t', 1)) − sale_pw[k,t,a]
-        V_k(t,a)       = min(keep, replace)
+        overhaul(k,t,a) = overhaul_pw[k,t,a] + V_{k+1}(overhaul_to[t,a], a+1)   (derived rows only)
+        V_k(t,a)       = min(keep, overhaul, replace)
 
-    Ties go to keep, then to the first type in case order.  ``buy_pw`` and
+    With jobs (``tenure.derived``) t' ranges over the buyable rows of t's job.
+    Ties go to keep, then to the overhaul, then to the first type in case order.  ``buy_pw`` and
     ``sale_pw`` may be given to price the arcs differently (for example with a
     price on capital added); by default the graph's own costs are used.
 
@@ -352,25 +406,63 @@ def backward(g: StageGraph, buy_pw: np.ndarray | None = None, sale_pw: np.ndarra
     use_keep = np.empty((T, A1), dtype=bool)
     no_sale = None if g.sellable is None or g.sellable[g.valid].all() else ~g.sellable & g.valid
     rep_tol = np.empty((T, A1))
+    jobs = None if g.job is None else g.job_rows()
+    ov = None if g.overhaul_to is None else _overhaul_arcs(g, A1)
     # Values of ages past a type's max age are never read by a valid state (their keep arcs
     # are inf and purchases enter at age 1), so they are masked once after the loop.
     for k in range(H - 1, -1, -1):
         nxt = V[k + 1]
         rep = repv[k]
         np.add(keep_pw[k], nxt[:, 1:], out=keep[:, :-1])
-        j, b = _first_min(buy[k] + nxt[:, 1])
-        np.subtract(b, sale[k], out=rep)
+        if jobs is None:
+            j, b = _first_min(buy[k] + nxt[:, 1])
+            np.subtract(b, sale[k], out=rep)
+            pol[k] = j
+        else:
+            _replace_by_job(buy[k], nxt, sale[k], jobs, rep, pol[k])
         if no_sale is not None:  # below min_age: no replace arc
             rep[no_sale] = np.inf
-        np.add(rep, tol, out=rep_tol)
+        alt = rep
+        if ov is not None:  # replace_value keeps the pure replace value (flexibility reads it)
+            alt = rep.copy()
+            _overhaul_step(k, nxt, ov, alt, pol[k], tol)
+        np.add(alt, tol, out=rep_tol)
         np.less_equal(keep, rep_tol, out=use_keep)
-        np.copyto(V[k], rep)
+        np.copyto(V[k], alt)
         np.copyto(V[k], keep, where=use_keep)
-        pol[k] = j
         np.copyto(pol[k], KEEP, where=use_keep)
     # ... except at k = 0, where an age past max age is an overdue unit that must be sold now
     V[1:H, ~g.valid] = np.inf
     return ChainSolution(graph=g, value=V, policy=pol, replace_value=repv)
+
+
+def _replace_by_job(buy: np.ndarray, nxt: np.ndarray, sale: np.ndarray, jobs, rep: np.ndarray,
+                    pol: np.ndarray) -> None:
+    """Replace values of one stage when rows belong to jobs: the best purchase among the job's rows."""
+    enter = buy + nxt[:, 1]
+    for rows in jobs:
+        j, b = _first_min(enter[rows])
+        rep[rows] = b - sale[rows]
+        pol[rows] = rows[j] if j >= 0 else -1
+
+
+def _overhaul_arcs(g: StageGraph, A1: int):
+    """The overhaul arcs as flat indices: (source states, target states, their present costs (H, n))."""
+    t, a = np.nonzero(g.overhaul_to >= 0)
+    if len(t) == 0:
+        return None
+    return t * A1 + a, g.overhaul_to[t, a] * A1 + a + 1, g.overhaul_pw[:, t, a]
+
+
+def _overhaul_step(k: int, nxt: np.ndarray, ov, rep: np.ndarray, pol: np.ndarray, tol: float) -> None:
+    """Where an overhaul beats replacing (ties to the overhaul), write its value and OVERHAUL into
+    ``rep``/``pol`` (keep is compared afterwards, so keep still wins ties)."""
+    src, dst, pw = ov
+    val = pw[k] + nxt.ravel()[dst]
+    r = rep.ravel()
+    better = val <= r[src] + tol
+    r[src[better]] = val[better]
+    pol.ravel()[src[better]] = OVERHAUL
 
 
 @dataclass(frozen=True)
@@ -380,7 +472,7 @@ class Step:
     k: int
     type: int
     age: int
-    action: int  # KEEP, SELL or index of the type bought; type = age = NEW for a unit bought from nothing
+    action: int  # KEEP, SELL, OVERHAUL or index of the type bought; type = age = NEW for a unit bought from nothing
 
 
 def follow(sol: ChainSolution, t: int, a: int, k0: int = 0) -> list[Step]:
@@ -389,8 +481,17 @@ def follow(sol: ChainSolution, t: int, a: int, k0: int = 0) -> list[Step]:
     for k in range(k0, sol.graph.horizon):
         act = int(sol.policy[k, t, a])
         steps.append(Step(k, t, a, act))
-        t, a = (t, a + 1) if act == KEEP else (act, 1)
+        t, a = next_state(sol.graph, t, a, act)
     return steps
+
+
+def next_state(g: StageGraph, t: int, a: int, action: int) -> tuple[int, int]:
+    """The state (t, a) after one year of ``action`` from (t, a)."""
+    if action == KEEP:
+        return t, a + 1
+    if action == OVERHAUL:
+        return int(g.overhaul_to[t, a]), a + 1
+    return action, 1
 
 
 def path_cost(g: StageGraph, steps: list[Step]) -> float:
@@ -403,6 +504,9 @@ def path_cost(g: StageGraph, steps: list[Step]) -> float:
             t, a = st.type, st.age + 1
         elif st.action == SELL:
             return float(total - g.sale_pw[st.k, st.type, st.age])
+        elif st.action == OVERHAUL:
+            total += g.overhaul_pw[st.k, st.type, st.age]
+            t, a = next_state(g, st.type, st.age, st.action)
         else:
             sale = 0.0 if st.type == NEW else g.sale_pw[st.k, st.type, st.age]
             total += g.buy_pw[st.k, st.action] - sale
@@ -431,7 +535,7 @@ def flexibility(sol: ChainSolution, steps: list[Step]) -> list[tuple[float | Non
     H = g.horizon
     out = []
     for idx, st in enumerate(steps):
-        if st.action == KEEP:
+        if st.action in (KEEP, OVERHAUL):
             continue
         if st.action == SELL or st.type == NEW:  # no defer/advance for a purchase or sale without its pair
             out.append((None, None))
@@ -466,15 +570,16 @@ def to_networkx(g: StageGraph, starts) -> nx.DiGraph:
     Nodes are ``(k, type_id, age)`` plus a sink ``"end"``; arcs carry
     ``weight`` (present cost at time 0 [money]), ``outlay`` (purchase price
     [money]), ``proceeds`` (market value received [money]) and ``action``
-    (``"keep"``, ``"replace"`` or ``"end"``).  Built from the same tables as the
-    recursion.
+    (``"keep"``, ``"replace"``, ``"overhaul"`` or ``"end"``).  Built from the same tables as the
+    recursion; on graphs with derived rows nodes are named by ``StageGraph.row_label``.
     """
     import networkx as nx
 
     r = g.reachable(starts)
     G = nx.DiGraph()
     H = g.horizon
-    names = g.types
+    names = [g.row_label(t) for t in range(len(g.types))]
+    job = np.zeros(len(names), dtype=int) if g.job is None else g.job
     for k in range(H):
         ts, as_ = np.nonzero(r[k])
         buy_types = np.flatnonzero(g.buyable[k])
@@ -483,7 +588,11 @@ def to_networkx(g: StageGraph, starts) -> nx.DiGraph:
             if a < g.max_age[t]:
                 G.add_edge(u, (k + 1, names[t], a + 1), weight=float(g.keep_pw[k, t, a]), outlay=0.0,
                            proceeds=0.0, action="keep")
-            for t2 in (buy_types.tolist() if g.sellable is None or g.sellable[t, a] else []):
+            if g.overhaul_to is not None and g.overhaul_to[t, a] >= 0:
+                G.add_edge(u, (k + 1, names[g.overhaul_to[t, a]], a + 1), weight=float(g.overhaul_pw[k, t, a]),
+                           outlay=float(g.overhaul_cost[k, t, a]), proceeds=0.0, action="overhaul")
+            sellable = g.sellable is None or bool(g.sellable[t, a])
+            for t2 in (buy_types[job[buy_types] == job[t]].tolist() if sellable else []):
                 G.add_edge(u, (k + 1, names[t2], 1), weight=float(g.buy_pw[k, t2] - g.sale_pw[k, t, a]),
                            outlay=float(g.price[k, t2]), proceeds=float(g.value[k, t, a]), action="replace")
     ts, as_ = np.nonzero(r[H])

@@ -146,8 +146,12 @@ def cmd_life(args) -> int:
         return _life_compare_tax(case, chosen, year, args)
     tax_rate = case.study.tax_rate
     tables = api.life_tables(case, args.type, year, args.tolerance)
+    chosen = [case.type(lt.type) for lt in tables]
+    rebuilt = _rebuild_lives(case, chosen, year, args.usage)
     if args.json:
-        payload = tables[0].to_dict() if len(tables) == 1 else [lt.to_dict() for lt in tables]
+        dicts = [dict(lt.to_dict(), **({"usage_overhaul": rebuilt[lt.type].to_dict()} if lt.type in rebuilt else {}))
+                 for lt in tables]
+        payload = dicts[0] if len(dicts) == 1 else dicts
         from .report.files import dumps
 
         print(dumps(payload))
@@ -164,6 +168,10 @@ def cmd_life(args) -> int:
             continue
         print(text.life_text(lt, f"Economic life of {lt.type} ({t.class_}), bought {year}, "
                                  f"rate {case.study.discount_rate:.2%}{_rate_note(case)}{note}"))
+        if lt.type in rebuilt:
+            from .report.overhauls import rebuild_text
+
+            print(rebuild_text(rebuilt[lt.type]))
     return 0
 
 
@@ -173,6 +181,28 @@ def _rate_note(case) -> str:
     if s.rate_basis != "nominal":
         return ""
     return f" real = (1 + {s.nominal_rate:.2%} nominal)/(1 + {s.inflation:.2%} inflation) − 1"
+
+
+def _usage_arg(value) -> float | None:
+    if value is not None and not (value > 0):
+        raise UsageError(f"--usage {value!r}: must be a yearly usage > 0 (km, hours, … per year)")
+    return value
+
+
+def _rebuild_lives(case, chosen, year: int, usage) -> dict:
+    """EAC with and without the overhaul at ``usage`` (``--usage``) for the types that use either."""
+    from .rebuild import rebuild_life
+
+    usage = _usage_arg(usage)
+    out = {}
+    for t in chosen:
+        if usage is not None and t.usage_reference is None:
+            raise UsageError(f"--usage {usage:g}: type {t.id!r} has no usage_reference in {case.source}")
+        if usage is not None or t.overhaul is not None:
+            out[t.id] = rebuild_life(t, case.study.discount_rate, case.study.start_year, year, usage)
+    return out
+
+
 
 
 def cmd_fit(args) -> int:
@@ -281,7 +311,21 @@ def cmd_policy(args) -> int:
     if args.type is not None and args.type not in ids:
         raise UsageError(f"--type {args.type!r}: not a type of class {args.class_!r}{_near(args.type, ids)} "
                          f"(types: {', '.join(ids)})")
-    print(text.policy_text(api.policy(case, args.class_), case, [args.type] if args.type else ids))
+    usage = _usage_arg(args.usage)
+    if usage is not None:
+        from .derived import build_derived_graph
+
+        noref = [t.id for t in case.types_of(args.class_) if t.usage_reference is None]
+        if noref:
+            raise UsageError(f"--usage {usage:g}: type(s) {', '.join(noref)} of class {args.class_!r} have no "
+                             f"usage_reference in {case.source}")
+        from . import chain
+
+        g = build_derived_graph(case, args.class_, usages=(usage,))
+        sol = chain.backward(g)
+    else:
+        sol = api.policy(case, args.class_)
+    print(text.policy_text(sol, case, [args.type] if args.type else ids))
     return 0
 
 
@@ -404,6 +448,7 @@ def build_parser() -> argparse.ArgumentParser:
     c.add_argument("--json", action="store_true", help="print JSON instead of a table")
     c.add_argument("--compare-tax", action="store_true",
                    help="show the after-tax EAC beside the before-tax one (a case with [study] tax_rate)")
+    c.add_argument("--usage", type=float, help="yearly usage of the job (km, hours, …): EAC with and without overhaul")
     c.set_defaults(func=cmd_life)
 
     c = sub.add_parser("fit", help="fit O&M and market-value curves from work-order, fuel and sale records")
@@ -438,6 +483,7 @@ def build_parser() -> argparse.ArgumentParser:
     c.add_argument("case")
     c.add_argument("--class", dest="class_", required=True, help="class name")
     c.add_argument("--type", help="held type (default: every type of the class)")
+    c.add_argument("--usage", type=float, help="yearly usage of the job (km, hours, …; default: the reference)")
     c.set_defaults(func=cmd_policy)
 
     def solve_options(c):

@@ -148,6 +148,27 @@ class Emissions:
 
 
 @dataclass(frozen=True)
+class Overhaul:
+    """A mid-life overhaul (rebuild) a unit of a type may get once (docs/conventions.md, "Overhaul").
+
+    ``cost`` [money, constant start-year currency] is paid at the start of the
+    year it is done; it is allowed when the unit has completed ``age_from`` …
+    ``age_to`` years; afterwards the O&M of service year j after the overhaul is
+    ``om(om_age_after + j)``; the max age grows by ``adds_years`` [years].
+    """
+
+    cost: float
+    age_from: int
+    age_to: int
+    om_age_after: int
+    adds_years: int
+
+    @property
+    def ages(self) -> range:
+        return range(self.age_from, self.age_to + 1)
+
+
+@dataclass(frozen=True)
 class AssetType:
     """A model of unit that can be held, and perhaps bought.
 
@@ -173,6 +194,11 @@ class AssetType:
         No unit of this type is sold or replaced before this age [years] (0: no minimum).
     emissions : Emissions
         Tonnes CO2e per unit-year of service by vintage.
+    usage_reference : float or None
+        Yearly usage (km, hours, …) for which ``om`` and ``salvage`` are given.
+    usage_max : float or None
+        Lifetime usage at which a unit must go.
+    overhaul : Overhaul or None
     """
 
     id: str
@@ -188,6 +214,9 @@ class AssetType:
     min_age: int = 0
     emissions: Emissions = Emissions()
     depreciation: Depreciation | None = None
+    usage_reference: float | None = None
+    usage_max: float | None = None
+    overhaul: Overhaul | None = None
 
     def buyable(self, year: int) -> bool:
         """True when a new unit of this type can be bought in calendar ``year``."""
@@ -206,6 +235,7 @@ class Unit:
     without a count keeps its id in every output; a block of ``count`` > 1
     units is named ``id#1 … id#count``.  ``attributes`` are the inventory's
     other columns, (name, text) pairs in file order, carried into the outputs.
+    ``usage`` is the job's yearly usage (None: the type's ``usage_reference``).
     """
 
     id: str
@@ -213,6 +243,7 @@ class Unit:
     age: int
     count: int = 1
     attributes: tuple[tuple[str, str], ...] = ()
+    usage: float | None = None
 
     def names(self) -> list[str]:
         """Unit names used in outputs."""

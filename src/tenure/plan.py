@@ -17,7 +17,7 @@ from typing import Sequence
 
 import numpy as np
 
-from .chain import KEEP, NEW, SELL, StageGraph, Step, path_cost
+from .chain import KEEP, NEW, OVERHAUL, SELL, StageGraph, Step, next_state, path_cost
 from .model import Case
 
 
@@ -67,7 +67,8 @@ YEAR_COLUMNS = ("year", "buys", "capital", "salvage", "om", "cap", "slack", "sha
 class Event:
     """What is done to a unit in ``year``: ``action`` "replace" (the unit of ``from_type``/``from_age`` is
     sold and a new ``type`` bought), "buy" (a new ``type`` bought without a sale; ``from_type`` "") or
-    "sell" (sold without a replacement; ``type`` "")."""
+    "sell" (sold without a replacement; ``type`` ""), or "overhaul" (the unit is overhauled at ``from_age``
+    for ``price``; ``type`` its own)."""
 
     year: int
     action: str
@@ -102,7 +103,7 @@ class UnitPlan:
 class YearRow:
     """Totals of one planning year [money, undiscounted].
 
-    ``capital``: purchase prices paid; ``salvage``: market value received for
+    ``capital``: purchase prices and overhaul costs paid; ``salvage``: market value received for
     units sold; ``om``: O&M of the year (paid at its end); ``cap`` and
     ``slack`` on the budget's basis in constant money; ``shadow_price``: present-cost saving per
     extra unit of money in the year's cap (None when not computed).  ``in_service``: units
@@ -372,6 +373,16 @@ def _walk(g: StageGraph, grp: PathGroup, n: int, y0: int, acc: dict, by_type: li
             acc["tonnes"][k] += n * g.tonnes_keep[k, st.type, st.age]
             acc["in_service"][k] += n
             t, a = st.type, st.age + 1
+            continue
+        if st.action == OVERHAUL:  # capital in its year; the unit stays in service and keeps its age
+            c = g.overhaul_cost[k, st.type, st.age]
+            acc["capital"][k] += n * c
+            acc["om"][k] += n * g.om_overhaul[k, st.type, st.age]
+            acc["tonnes"][k] += n * g.tonnes_keep[k, st.type, st.age]
+            acc["in_service"][k] += n
+            events.append(Event(year=y0 + k, action="overhaul", from_type=g.types[st.type], from_age=st.age,
+                                type=g.types[st.type], price=float(c), market_value=0.0))
+            t, a = next_state(g, st.type, st.age, st.action)
             continue
         d, adv = next(flex, (None, None))
         if st.action == SELL:

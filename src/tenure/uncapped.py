@@ -9,7 +9,7 @@ from __future__ import annotations
 import time
 from collections import defaultdict
 
-from . import chain
+from . import chain, derived
 from .model import Case
 from .plan import PathGroup, Plan, assemble
 
@@ -35,9 +35,9 @@ def starting_states(case: Case, graphs: dict[str, chain.StageGraph]) -> dict[str
     held = _units_by_class(case)
     for cls, g in graphs.items():
         states: dict[tuple[int, int], list[str]] = defaultdict(list)
-        index = {tid: j for j, tid in enumerate(g.types)}
+        grid = derived.usage_grid(case, cls) if g.job is not None else None
         for u in held.get(cls, ()):
-            states[(index[u.type], u.age)].extend(u.names())
+            states[(g.start_row(u.type, derived.job_usage(case, u, grid)), u.age)].extend(u.names())
         out[cls] = dict(states)
     return out
 

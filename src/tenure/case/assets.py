@@ -8,6 +8,7 @@ from ..model import END_VALUES, RATE_BASES, AssetType, Emissions, OMCurve, Study
 from .keys import EMISSION_KEYS, STUDY_KEYS, TYPE_KEYS
 from .problems import MONEY_MAX, RATE_MAX, RATE_MIN, Checker, blocks
 from .taxes import _depreciation, _tax_rate
+from .usage import type_usage_fields
 
 
 def _study(chk: Checker, doc: Mapping) -> Study | None:
@@ -204,9 +205,10 @@ def _asset_types(chk: Checker, doc: Mapping) -> list[AssetType]:
                     "replaced, so a minimum life past it could never be kept); allowed: 0 … max_age")
             min_age = None
         em = _emissions(chk, b, p)
-        if None in (tid, cls, price, price_change, om_change, om, sv, max_age, min_age, em):
+        extra = type_usage_fields(chk, b, p, max_age)
+        if None in (tid, cls, price, price_change, om_change, om, sv, max_age, min_age, em, extra):
             continue
         out.append(AssetType(id=tid, class_=cls, price=price, price_change=price_change, om_change=om_change,
                              buy_from=buy_from, buy_until=buy_until, max_age=max_age, om=om, salvage=sv,
-                             min_age=min_age, emissions=em, depreciation=dep))
+                             min_age=min_age, emissions=em, depreciation=dep, **extra))
     return out

@@ -22,7 +22,8 @@ from .problems import UNITS_MAX, Checker, Problem, blocks
 
 #: what the header must hold, in the words of the messages
 COLUMNS_TEXT = ("columns are id,type,age[,count] (in_service or model_year may replace age; any other column is "
-                "kept as an attribute)")
+                "kept as an attribute; `usage` is the unit's yearly usage)")
+from .usage import unit_usage
 
 
 def age_from_date(start_year: int, day: dt.date) -> int:
@@ -251,10 +252,12 @@ def _unit(sub: Checker, row: Mapping, where, types, type_ids, start_year) -> Uni
         near = difflib.get_close_matches(tid, sorted(type_ids), n=1, cutoff=0.5)
         hint = f"; did you mean '{near[0]}'?" if near else ""
         sub.bad(where("type"), f"= {tid!r}: unknown asset type{hint} (types: {', '.join(sorted(type_ids))})")
-    if None in (uid, tid, age, count) or tid not in types:
+    ok, usage = unit_usage(sub, row, where("usage").rsplit(".", 1)[0], types.get(tid) if tid is not None else None,
+                           age if tid in types and age is not None and age <= types[tid].max_age else None)
+    if None in (uid, tid, age, count) or tid not in types or not ok:
         return None
     attrs = tuple((k, v) for k, v in row.get("attributes", {}).items())
-    return Unit(id=uid, type=tid, age=age, count=count, attributes=attrs)
+    return Unit(id=uid, type=tid, age=age, count=count, attributes=attrs, usage=usage)
 
 
 def _group_by(chk: Checker, fleet: Mapping, units: list[Unit]) -> str | None:
@@ -282,6 +285,8 @@ def inline(units) -> list[dict]:
     out = []
     for u in units:
         b: dict[str, Any] = {"id": u.id, "type": u.type, "age": u.age, "count": u.count}
+        if u.usage is not None:
+            b["usage"] = u.usage
         if u.attributes:
             b["attributes"] = dict(u.attributes)
         out.append(b)

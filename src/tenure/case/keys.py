@@ -8,16 +8,18 @@ STUDY_KEYS = ("title", "start_year", "horizon", "discount_rate", "end_value", "i
               "tax_rate")
 TYPE_KEYS = (
     "id", "class", "price", "price_change", "buy_from", "buy_until",
-    "max_age", "om", "om_change", "salvage", "min_age", "emissions", "depreciation",
+    "max_age", "om", "om_change", "salvage", "min_age", "emissions", "depreciation", "usage_reference",
+    "usage_max", "overhaul",
 )
-UNIT_KEYS = ("id", "type", "age", "count")
+OVERHAUL_KEYS = ("cost", "ages", "om_age_after", "adds_years")
+UNIT_KEYS = ("id", "type", "age", "count", "usage")
 #: further keys of a [[unit]] block (not scenario override targets: overrides see resolved ages)
 UNIT_MORE_KEYS = ("in_service", "model_year", "attributes")
 FLEET_KEYS = ("file", "sheet", "group_by")
 #: required inventory columns, besides exactly one of AGE_COLUMNS
 CSV_COLUMNS = ("id", "type", "age")
 AGE_COLUMNS = ("age", "in_service", "model_year")
-CSV_OPTIONAL = ("count",)
+CSV_OPTIONAL = ("count", "usage")
 #: kept inventory columns may not take the name of a units.csv column
 RESERVED_COLUMNS = ("unit", "class", "start_type", "start_age", "year", "action", "from_type", "from_age", "price",
                     "market_value", "defer_cost", "advance_cost", "present_cost", "attributes")

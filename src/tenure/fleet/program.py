@@ -6,11 +6,14 @@ each class the units flow through the reachable states ``(k, t, a)``:
 - ``keep[k,t,a]``  units kept through year k (only while a < max_age);
 - ``sell[k,t,a]``  units sold at time k, each freeing a slot in the class's
   year-k market node;
-- ``buy[k,t']``    units of type t' bought at time k (buyable types only).
+- ``buy[k,t']``    units of type t' bought at time k (buyable types only);
+- ``overhaul[k,t,a]`` units overhauled at time k (graphs with derived rows, ``tenure.derived``),
+  flowing into (k+1, overhaul_to[t,a], a+1); their cost counts in the cap on both bases.
 
 Rows: conservation at every state (inflow = keep + sell, the inflow at k = 0
 being the inventory), the market node of each class and year
-(Σ sell = Σ buy), each year's cap (gross: Σ price·buy; net: less Σ value·sell)
+(Σ sell = Σ buy; one node per job when the graph has jobs: a replacement keeps
+the job's usage), each year's cap (gross: Σ price·buy; net: less Σ value·sell)
 and each class's ``max_buys_per_year``.  End values are added to the arcs that
 enter the final states.  A sell/buy pair is exactly a *replace* arc of the
 state graph, so the costs [money, present worth at time 0] are those of the
@@ -43,6 +46,7 @@ class ColumnIndex:
     keep: np.ndarray  # (H, T, A+1) int
     sell: np.ndarray  # (H, T, A+1)
     buy: np.ndarray  # (H, T)
+    overhaul: np.ndarray | None = None  # (H, T, A+1), graphs with overhaul arcs only
 
 
 @dataclass(frozen=True)
@@ -189,13 +193,28 @@ def _class_columns(b: _Builder, g, reach, H: int, n_units: float) -> ColumnIndex
         sell[k, ts[has_sell], as_[has_sell]] = base + sc
         t2 = np.flatnonzero(g.buyable[k])
         buy[k, t2] = b.cols(g.buy_pw[k, t2] + (g.end_pw[t2, 1] if k == H - 1 else 0.0), n_units) + np.arange(len(t2))
-    return ColumnIndex(keep=keep, sell=sell, buy=buy)
+    return ColumnIndex(keep=keep, sell=sell, buy=buy, overhaul=_overhaul_columns(b, g, reach, H, n_units))
+
+
+def _overhaul_columns(b: _Builder, g, reach, H: int, n_units: float) -> np.ndarray | None:
+    """One column per reachable state with an overhaul arc, after all the class's other columns."""
+    if g.overhaul_to is None or not (g.overhaul_to >= 0).any():
+        return None
+    T, A1 = g.valid.shape
+    ov = np.full((H, T, A1), -1, dtype=np.int64)
+    for k in range(H):
+        ts, as_ = np.nonzero(reach[k] & (g.overhaul_to >= 0))
+        if len(ts) == 0:
+            continue
+        cost = g.overhaul_pw[k, ts, as_] + (g.end_pw[g.overhaul_to[ts, as_], as_ + 1] if k == H - 1 else 0.0)
+        ov[k, ts, as_] = b.cols(cost, n_units) + np.arange(len(ts))
+    return ov
 
 
 def _class_rows(b: _Builder, g, ci: ColumnIndex, reach, start: dict, cap_rows, net: bool, lim,
-                market: dict | None = None) -> None:
+                market_change: dict | None = None) -> None:
     """The class's rows: conservation at each state (year by year, row-major), then for each year
-    its market node and its purchase-limit row; its coefficients in the caps' rows.  ``market`` maps a
+    its market node and its purchase-limit row; its coefficients in the caps' rows.  ``market_change`` maps a
     year k to the class's size change Σ buy − Σ sell then ([[demand]], orders; rules_rows.market_changes)."""
     keep, sell, buy = ci.keep, ci.sell, ci.buy
     H = len(cap_rows)
@@ -210,20 +229,26 @@ def _class_rows(b: _Builder, g, ci: ColumnIndex, reach, start: dict, cap_rows, n
     b.put(r[old], keep[ks[old] - 1, ts[old], as_[old] - 1], -1.0)
     new = (ks > 0) & (as_ == 1)
     b.put(r[new], buy[ks[new] - 1, ts[new]], -1.0)
-    # market node (Σ sell = Σ buy) and purchase limit of each year
-    market_row = np.full(H, -1, dtype=np.int64)
+    if ci.overhaul is not None:
+        _overhaul_rows(b, g, ci.overhaul, r, ks, ts, as_, cap_rows)
+    # market node (Σ sell = Σ buy) of each year and job, and the purchase limit of each year
+    job = np.zeros(len(g.types), dtype=np.int64) if g.job is None else g.job
+    n_jobs = int(job.max()) + 1
+    market = np.full((H, n_jobs), -1, dtype=np.int64)
     limit = np.full(H, -1, dtype=np.int64)
-    s_any, b_any = (sell >= 0).any(axis=(1, 2)), (buy >= 0).any(axis=1)
-    for k in np.flatnonzero(s_any | b_any).tolist():
-        d = -(market or {}).get(k, 0.0)  # Σ sell − Σ buy = −(the class's size change)
-        rows_k = b.row(d, d)
-        market_row[k] = rows_k
+    b_any = (buy >= 0).any(axis=1)
+    for k in range(H):
+        for j in range(n_jobs):
+            if (sell[k][job == j] >= 0).any() or (buy[k][job == j] >= 0).any():
+                # Σ sell − Σ buy = −(the class's size change), met in the first job
+                d = -(market_change or {}).get(k, 0.0) if j == 0 else 0.0
+                market[k, j] = b.row(d, d)
         if lim is not None and b_any[k]:
             limit[k] = b.row(-INF, float(lim))
     sk, st, sa = np.nonzero(sell >= 0)
     bk, bt = np.nonzero(buy >= 0)
-    b.put(market_row[sk], sell[sk, st, sa], 1.0)
-    b.put(market_row[bk], buy[bk, bt], -1.0)
+    b.put(market[sk, job[st]], sell[sk, st, sa], 1.0)
+    b.put(market[bk, job[bt]], buy[bk, bt], -1.0)
     lb = limit[bk] >= 0
     b.put(limit[bk][lb], buy[bk, bt][lb], 1.0)
     # caps: gross Σ price·buy; net less Σ value·sell
@@ -232,6 +257,20 @@ def _class_rows(b: _Builder, g, ci: ColumnIndex, reach, start: dict, cap_rows, n
     if net:
         cs = cap_rows[sk] >= 0
         b.put(cap_rows[sk][cs], sell[sk, st, sa][cs], -g.value[sk, st, sa][cs])
+
+
+def _overhaul_rows(b: _Builder, g, ov: np.ndarray, r, ks, ts, as_, cap_rows) -> None:
+    """Overhaul columns in the conservation rows (out of (k,t,a), into (k+1, overhaul_to, a+1)) and in
+    the caps (their cost is capital on both bases)."""
+    H, T, A1 = ov.shape
+    row_of = np.full((H, T, A1), -1, dtype=np.int64)
+    row_of[ks, ts, as_] = r
+    ok, ot, oa = np.nonzero(ov >= 0)
+    b.put(row_of[ok, ot, oa], ov[ok, ot, oa], 1.0)
+    inner = ok + 1 < H
+    b.put(row_of[ok[inner] + 1, g.overhaul_to[ot[inner], oa[inner]], oa[inner] + 1], ov[ok, ot, oa][inner], -1.0)
+    cc = cap_rows[ok] >= 0
+    b.put(cap_rows[ok][cc], ov[ok, ot, oa][cc], g.overhaul_cost[ok, ot, oa][cc])
 
 
 def build_program(case: Case, graphs=None, extra_cap: np.ndarray | None = None) -> CohortProgram:

@@ -28,11 +28,13 @@ def _floors(prog: CohortProgram, x: np.ndarray, k: int):
     per_class = {}
     for cls, ci in prog.cols.items():
         keep, sell = ci.keep[k], ci.sell[k]
+        ov = ci.overhaul[k] if ci.overhaul is not None else None
         sells = {}
         for t, a in zip(*np.nonzero((sell >= 0) | (keep >= 0))):
             t, a = int(t), int(a)
             js, jk = int(sell[t, a]), int(keep[t, a])
-            n_in = (x[js] if js >= 0 else 0.0) + (x[jk] if jk >= 0 else 0.0)
+            jo = int(ov[t, a]) if ov is not None else -1
+            n_in = (x[js] if js >= 0 else 0.0) + (x[jk] if jk >= 0 else 0.0) + (x[jo] if jo >= 0 else 0.0)
             n_in = float(round(n_in))
             if jk < 0:
                 sv = n_in
@@ -46,22 +48,69 @@ def _floors(prog: CohortProgram, x: np.ndarray, k: int):
     return per_class, cands
 
 
+def _overhauls(prog: CohortProgram, x: np.ndarray, k: int, cls: str, sells: dict, up=frozenset()) -> dict:
+    """Whole overhauls of year k in ``cls`` per state: the LP's rounded down (up for the states in
+    ``up``), at most the units not sold."""
+    ov = prog.cols[cls].overhaul
+    if ov is None:
+        return {}
+    out = {}
+    for (t, a), (sv, n_in) in sells.items():
+        jo = int(ov[k][t, a])
+        if jo >= 0:
+            n = math.floor(x[jo] + 1e-6) + ((cls, (t, a)) in up and x[jo] - math.floor(x[jo] + 1e-6) > 1e-6)
+            out[(t, a)] = float(max(0.0, min(n, n_in - sv)))
+    return out
+
+
+def _overhaul_candidates(prog: CohortProgram, x: np.ndarray, k: int) -> list:
+    """(fraction, class, state) of year k's fractional overhauls, largest fraction first."""
+    out = []
+    for cls, ci in prog.cols.items():
+        if ci.overhaul is None:
+            continue
+        for t, a in zip(*np.nonzero(ci.overhaul[k] >= 0)):
+            f = x[ci.overhaul[k][t, a]]
+            f -= math.floor(f + 1e-6)
+            if f > 1e-6:
+                out.append((float(f), cls, (int(t), int(a))))
+    return sorted(out, key=lambda c: (-c[0], c[1], c[2]))
+
+
+def _buys(prog: CohortProgram, x: np.ndarray, k: int, cls: str, sells: dict, case: Case,
+          memo: dict | None = None) -> dict[int, float]:
+    """Whole purchases of year k in ``cls`` for the sales ``sells`` plus the class's size change that year
+    (``prog.market_rhs``, met in the first job): per job when the graph has jobs (a replacement keeps the
+    job's usage).  ``memo`` caches the answer per (class, job, purchases): a pure function of them within
+    one year, which the year's checks ask again and again."""
+    g = prog.graphs[cls]
+    change = prog.market_rhs.get((cls, k), 0.0)
+    jobs = [None] if g.job is None else list(g.job_rows())
+    out: dict[int, float] = {}
+    for j, rows in enumerate(jobs):
+        n = sum(v[0] for (t, _), v in sells.items() if rows is None or g.job[t] == j)
+        n = max(0.0, n + (change if j == 0 else 0.0))
+        key = (cls, j, n)
+        if memo is None or key not in memo:
+            got = _class_buys(prog, x, k, cls, n, case, rows)
+            if memo is None:
+                out.update(got)
+                continue
+            memo[key] = got
+        out.update(memo[key])
+    return out
+
+
 def _class_buys(prog: CohortProgram, x: np.ndarray, k: int, cls: str, n_sell: float, case: Case,
-                memo: dict | None = None) -> dict[int, float]:
-    """Whole purchases of year k in ``cls`` for ``n_sell`` sales plus the class's size change that year
-    (``prog.market_rhs``): the LP's floors, then the largest remainders (cheaper type first on ties);
-    purchases beyond the LP's buy the cheapest type.  Under coupling rules (targets count types) the
-    purchases follow the LP's type mix one unit at a time.  ``memo`` caches the answer per (class, sales):
-    it is a pure function of them within one year, and the year's checks ask it again and again."""
-    if memo is not None:
-        key = (cls, n_sell)
-        if key not in memo:
-            memo[key] = _class_buys(prog, x, k, cls, n_sell, case)
-        return dict(memo[key])
-    n_sell = max(0.0, n_sell + prog.market_rhs.get((cls, k), 0.0))
+                rows: np.ndarray | None = None) -> dict[int, float]:
+    """``n_sell`` whole purchases of year k in ``cls`` (among ``rows``, default all): the LP's floors, then
+    the largest remainders (cheaper type first on ties); purchases beyond the LP's buy the cheapest type.
+    Under coupling rules (targets count types) they follow the LP's type mix one unit at a time."""
     g = prog.graphs[cls]
     b = prog.cols[cls].buy[k]
     idx = np.flatnonzero(b >= 0)
+    if rows is not None:
+        idx = idx[np.isin(idx, rows)]
     if n_sell == 0 or len(idx) == 0:
         return {int(t): 0.0 for t in idx}
     lp = np.array([x[b[t]] for t in idx])
@@ -83,7 +132,8 @@ def _class_buys(prog: CohortProgram, x: np.ndarray, k: int, cls: str, n_sell: fl
     return {int(t): float(v) for t, v in zip(idx, base)}
 
 
-def _year_ok(prog: CohortProgram, x: np.ndarray, k: int, case: Case, choice: dict, memo: dict | None = None) -> bool:
+def _year_ok(prog: CohortProgram, x: np.ndarray, k: int, case: Case, choice: dict, up=frozenset(),
+             memo: dict | None = None) -> bool:
     """True when the sales ``choice`` (and the purchases they imply) keep year k within its purchase
     limits and its cap (gross: prices; net: less the market values received)."""
     for cls, sells in choice.items():
@@ -96,8 +146,9 @@ def _year_ok(prog: CohortProgram, x: np.ndarray, k: int, case: Case, choice: dic
     tot = 0.0
     for cls, sells in choice.items():
         g = prog.graphs[cls]
-        buys = _class_buys(prog, x, k, cls, sum(v[0] for v in sells.values()), case, memo)
+        buys = _buys(prog, x, k, cls, sells, case, memo)
         tot += sum(g.price[k, t] * v for t, v in buys.items())
+        tot += sum(g.overhaul_cost[k, t, a] * v for (t, a), v in _overhauls(prog, x, k, cls, sells, up).items())
         if net:
             tot -= sum(g.value[k, t, a] * v[0] for (t, a), v in sells.items())
     return tot <= cap + 1e-6
@@ -138,9 +189,10 @@ def _round_year(prog: CohortProgram, x: np.ndarray, k: int, case: Case, eager: i
     threshold = 0.5 if eager == 0 else 1e-6
 
     memo: dict = {}
+    up: set = set()  # states whose fractional overhaul is rounded up
 
     def ok(choice):
-        return _year_ok(prog, x, k, case, choice, memo)
+        return _year_ok(prog, x, k, case, choice, up, memo)
 
     # the floors (and the forced sales) alone may break the cap or limit: then defer some
     if not ok(per_class) and not _defer(prog, x, k, per_class, ok):
@@ -151,18 +203,25 @@ def _round_year(prog: CohortProgram, x: np.ndarray, k: int, case: Case, eager: i
         per_class[cls][st][0] += 1
         if not ok(per_class):
             per_class[cls][st][0] -= 1
+    for frac, cls, st in _overhaul_candidates(prog, x, k):
+        if frac >= 0.5:
+            up.add((cls, st))
+            if not ok(per_class):
+                up.discard((cls, st))
     vals: dict[int, float] = {}
     for cls, sells in per_class.items():
         ci = prog.cols[cls]
-        n_sell = 0.0
+        ovs = _overhauls(prog, x, k, cls, sells, up)
         for (t, a), (sv, n_in) in sells.items():
             js, jk = int(ci.sell[k][t, a]), int(ci.keep[k][t, a])
+            no = ovs.get((t, a), 0.0)
             if js >= 0:
                 vals[js] = sv
             if jk >= 0:
-                vals[jk] = n_in - sv
-            n_sell += sv
-        for t, v in _class_buys(prog, x, k, cls, n_sell, case, memo).items():
+                vals[jk] = n_in - sv - no
+            if no or (t, a) in ovs:
+                vals[int(ci.overhaul[k][t, a])] = no
+        for t, v in _buys(prog, x, k, cls, sells, case).items():
             vals[int(ci.buy[k][t])] = v
     return vals
 

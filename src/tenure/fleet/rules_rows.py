@@ -116,10 +116,11 @@ def _in_year(ci, k: int, kind: str, weights_keep=None, weights_buy=None):
         cols.append(int(b[t]))
         coefs.append(1.0 if weights_buy is None else float(weights_buy[t]))
     if kind == "service":
-        kp = ci.keep[k]
-        for t, a in zip(*np.nonzero(kp >= 0)):
-            cols.append(int(kp[t, a]))
-            coefs.append(1.0 if weights_keep is None else float(weights_keep[t, a]))
+        # a unit overhauled in year k is in service during it, like a unit kept
+        for kp in (ci.keep[k],) + (() if getattr(ci, "overhaul", None) is None else (ci.overhaul[k],)):
+            for t, a in zip(*np.nonzero(kp >= 0)):
+                cols.append(int(kp[t, a]))
+                coefs.append(1.0 if weights_keep is None else float(weights_keep[t, a]))
     return cols, coefs
 
 

@@ -217,7 +217,7 @@ def unit_years(plan, case: Case) -> list[list[tuple[str, int]]]:
             if k > 0 and a >= 0:
                 a += 1
             e = by_year.get(y)
-            if e is not None:
+            if e is not None and e.action != "overhaul":  # an overhauled unit keeps its age
                 t, a = (e.type, 0) if e.type else ("", -1)
             row.append((t, a))
         out.append(row)

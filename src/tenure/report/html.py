@@ -30,6 +30,7 @@ from .. import __version__
 from ..model import AssetType, Case
 from ..scenarios import Comparison
 from . import charts, emissions, rules_view, taxnote
+from .overhauls import overhauls_html
 from .text import CAUTION
 
 _ENV = jinja2.Environment(loader=jinja2.PackageLoader("tenure.report", "templates"), autoescape=True,
@@ -235,8 +236,8 @@ def _buys_by_type(plan) -> Counter:
     c: Counter = Counter()
     for u in plan.units:
         for ev in u.events:
-            c[ev.type] += 1
-    return c
+            c[ev.type] += ev.action != "overhaul"
+    return +c
 
 
 def summary_html(plan, case: Case) -> str:
@@ -319,7 +320,7 @@ def first_years_html(plan, case: Case, n_years: int = 5) -> str:
     groups: dict[tuple, dict] = {}
     for u in plan.units:
         for ev in u.events:
-            if ev.year <= last:
+            if ev.year <= last and ev.action != "overhaul":
                 g = groups.setdefault((ev.year, u.class_, ev.from_type, ev.type),
                                       {"units": [], "ages": [], "price": 0.0, "value": 0.0})
                 g["units"].append(u.unit)
@@ -360,9 +361,10 @@ def class_table_html(plan, case: Case) -> str:
     rows = []
     for c, v in (plan.by_class or {}).items():
         n = sum(1 for u in plan.units if u.class_ == c)
-        buys = sum(len(u.events) for u in plan.units if u.class_ == c)
+        buys = sum(e.action != "overhaul" for u in plan.units if u.class_ == c for e in u.events)
         rows.append((c, n, buys, money(v)))
-    rows.append(("all classes", len(plan.units), sum(len(u.events) for u in plan.units), money(plan.present_cost)))
+    rows.append(("all classes", len(plan.units), sum(e.action != "overhaul" for u in plan.units for e in u.events),
+                 money(plan.present_cost)))
     return table(("class", "units", "replacements", "present cost"), rows, num=(1, 2, 3))
 
 
@@ -436,7 +438,7 @@ def plan_report(plan, case: Case, life_tables, extra: dict | None = None, notes:
                   last=s.start_year + s.horizon - 1, horizon=s.horizon, unit_count=case.unit_count,
                   method=plan.method, status=plan.status, what=what,
                   capped=any(y.cap is not None for y in plan.years),
-                  summary=Markup(summary_html(plan, case) + extra.get("summary", "")), first_years=Markup(extra.get("first_years") or first_years_html(plan, case)),
+                  summary=Markup(summary_html(plan, case) + extra.get("summary", "")), first_years=Markup((extra.get("first_years") or first_years_html(plan, case)) + overhauls_html(plan, case)),
                   charts=[(cid, ttl, read, Markup(svg)) for cid, ttl, read, svg in plan_charts(plan, case, life_tables)],
                   class_table=Markup(class_table_html(plan, case)), years_table=Markup(years_table_html(plan, case)),
                   extra_tables=Markup(extra.get("tables", "")), rules=Markup(rules_view.rules_html(plan, case)),

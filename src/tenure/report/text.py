@@ -13,6 +13,7 @@ from ..model import Case
 from ..textutil import money
 from . import rules_view
 from . import taxnote as _taxnote
+from .overhauls import overhaul_lines
 
 __all__ = ["CAUTION", "money", "rule", "case_summary", "life_text", "plan_summary", "policy_text"]
 
@@ -118,7 +119,7 @@ def plan_summary(plan, case: Case, out_dir: str | None = None, written: list[str
     for u in plan.units:
         c = by_cls.setdefault(u.class_, Counter())
         for e in u.events:
-            if e.type:  # a sale without a purchase buys nothing
+            if e.type and e.action != "overhaul":  # a sale without a purchase buys nothing
                 c[e.type] += 1
     lines.append("")
     lines.append(f"{'replacements':<26}{'by type bought'}")
@@ -127,6 +128,7 @@ def plan_summary(plan, case: Case, out_dir: str | None = None, written: list[str
             continue
         mix = ", ".join(f"{t} {n}" for t, n in by_cls[cls].items()) or "none"
         lines.append(f"  {cls:<24}{sum(by_cls[cls].values()):>4}   {mix}")
+    lines += overhaul_lines(plan)
     lines.append("")
     lines.append(f"{'period':<12}{'capital':>14}{'buys':>7}{'market value in':>18}{'O&M':>14}")
     for k0 in range(0, s.horizon, 5):
@@ -174,14 +176,15 @@ def plan_summary(plan, case: Case, out_dir: str | None = None, written: list[str
 
 def policy_text(sol, case: Case, type_ids: list[str]) -> str:
     """Optimal action by planning year (columns) and age (rows) for units of each type in ``type_ids``."""
-    from ..chain import KEEP
+    from ..chain import KEEP, OVERHAUL
 
     g = sol.graph
     y0 = g.start_year
     H = g.horizon
-    code = {t: chr(ord("A") + j) for j, t in enumerate(g.types)}
+    ids = list(dict.fromkeys(g.types))  # derived rows (tenure.derived) repeat their type's id
+    code = {t: chr(ord("A") + j) for j, t in enumerate(ids)}
     out = [f"Policy for class {g.class_}: '·' keep; a letter: sell the unit and buy that type",
-           "types: " + ", ".join(f"{code[t]} = {t}" for t in g.types)]
+           "types: " + ", ".join(f"{code[t]} = {t}" for t in ids)]
     for tid in type_ids:
         t = g.type_index(tid)
         out.append("")
@@ -189,9 +192,11 @@ def policy_text(sol, case: Case, type_ids: list[str]) -> str:
                    "columns: year")
         out.append("age " + "".join(f"{(y0 + k) % 100:>3}" for k in range(H)))
         for a in range(0, int(g.max_age[t]) + 1):
-            cells = "".join(("·" if int(sol.policy[k, t, a]) == KEEP else code[g.types[int(sol.policy[k, t, a])]])
-                            .rjust(3) for k in range(H))
+            cells = "".join(("·" if int(sol.policy[k, t, a]) == KEEP else "+" if int(sol.policy[k, t, a]) == OVERHAUL
+                             else code[g.types[int(sol.policy[k, t, a])]]).rjust(3) for k in range(H))
             out.append(f"{a:>3} {cells}")
     out.append("")
+    if g.overhaul_to is not None:
+        out.append("'+': overhaul the unit (rows of overhauled units are not shown)")
     out.append("columns are the last two digits of the calendar year; the policy ignores caps and limits")
     return "\n".join(out)

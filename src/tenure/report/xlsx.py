@@ -23,6 +23,7 @@ from openpyxl.styles import Alignment, Font, PatternFill
 from openpyxl.utils import get_column_letter
 
 from .. import __version__
+from ..chain import OVERHAUL
 from ..model import Case
 from ..textutil import cent
 from . import rules_view
@@ -201,12 +202,12 @@ def policy_sheet(ws, case: Case, solutions: dict | None):
         g = sol.graph
         for t, tid in enumerate(g.types):
             sh.blank()
-            sh.put((f"{cls}: held type {tid} (max age {int(g.max_age[t])})",), font=SECTION_FONT)
+            sh.put((f"{cls}: held type {g.row_label(t)} (max age {int(g.max_age[t])})",), font=SECTION_FONT)
             for a in range(0, int(g.max_age[t]) + 1):
                 cells = []
                 for k in range(g.horizon):
                     act = int(sol.policy[k, t, a])
-                    cells.append("·" if act == KEEP else (g.types[act] if act >= 0 else "—"))
+                    cells.append("·" if act == KEEP else (g.types[act] if act >= 0 else "overhaul" if act == OVERHAUL else "—"))
                 sh.put([a] + cells)
     for j in range(2, s.horizon + 2):
         col = [ws.cell(row=r, column=j).value for r in range(3, sh.row + 1)]

@@ -21,8 +21,8 @@ from typing import Mapping, Sequence
 
 import numpy as np
 
-from .. import curves, life
-from ..model import Case
+from .. import curves, derived, life
+from ..model import Case, Overhaul
 from .tasks import round2 as _r
 
 #: relative tolerance of the cap check when re-costing
@@ -103,14 +103,23 @@ def recost(plan_dict: Mapping, case: Case) -> Recost:
     chain_costs = _chain_costs(case) if s.end_value == "continuing" else {}
     broken: Counter = Counter()  # message -> units
     total = 0.0
+    grids = {c: derived.usage_grid(case, c) for c in case.classes}
     for pu in plan_units:
         row = rows[pu["unit"].rsplit("#", 1)[0]]
         t, a = types[row.type], row.age
         cls = t.class_
+        # usage and overhaul: docs/conventions.md ("Usage", "Overhaul"), the rules of tenure.derived
+        u, oh, ov = derived.job_usage(case, row, grids[cls]), None, None
         ev = {e["year"]: e["type"] for e in pu["events"]}
+        ovh = {e["year"] for e in pu["events"] if e.get("action") == "overhaul"}
         for k in range(H):
             y = y0 + k
-            if y in ev:
+            if y in ovh:
+                ov = _overhaul_of(t, a, oh, y, broken)
+                total += v[k] * ov.cost + v[k + 1] * curves.om(t, ov.om_age_after + 1, y - a, y0) * derived.ratio(t, u)
+                capital[k] += ov.cost
+                oh, a = a, a + 1
+            elif y in ev:
                 new = types.get(ev[y])
                 if new is None:
                     return Recost(None, (f"{y}: the plan buys type {ev[y]!r}, unknown in the scenario",))
@@ -119,27 +128,50 @@ def recost(plan_dict: Mapping, case: Case) -> Recost:
                 if not new.buyable(y):
                     broken[f"{y}: buys {new.id}, which can be bought only {_window(new)}"] += 1
                 p = curves.price(new, y, y0)
-                mv = curves.market_value(t, a, y, y0)
-                total += v[k] * (p - mv) + v[k + 1] * (curves.om(new, 1, y, y0) + cp * curves.tonnes(new, y, y0))
+                mv = float(derived.value_at(t, a, y, y0, derived.ratio(t, u)))
+                total += v[k] * (p - mv) + v[k + 1] * (curves.om(new, 1, y, y0) * derived.ratio(new, u)
+                                                     + cp * curves.tonnes(new, y, y0) * derived.ratio(new, u))
                 capital[k] += p
                 proceeds[k] += mv
                 buys[k][new.class_] += 1
-                t, a = new, 1
+                t, a, oh = new, 1, None
             else:
-                if a >= t.max_age:
-                    broken[f"{y}: keeps a {t.id} at age {a}, its max age is {t.max_age}"] += 1
-                total += v[k + 1] * (curves.om(t, a + 1, y - a, y0) + cp * curves.tonnes(t, y - a, y0))
+                top = derived.row_max_age(t, u, oh is not None)
+                if a >= top:
+                    broken[f"{y}: keeps a {t.id} at age {a}, its max age is {top}"] += 1
+                served = a + 1 if oh is None else ov.om_age_after + a + 1 - oh
+                total += v[k + 1] * (curves.om(t, served, y - a, y0) + cp * curves.tonnes(t, y - a, y0)) \
+                    * derived.ratio(t, u)
                 a += 1
-        y_end = y0 + H
-        if s.end_value == "salvage":
-            total -= v[H] * curves.market_value(t, a, y_end, y0)
-        else:
-            a_end = min(a, t.max_age)
-            total += v[H] * life.continuing_cost(t, a_end, y_end - a_end, chain_costs[t.class_], rate, y0, y_end)
+        total += v[H] * _end_cost(case, t, a, oh, u, chain_costs.get(t.class_))
     _budget_breaks(case, capital, proceeds, buys, broken)
     msgs = tuple(m if n == 1 or "cap" in m or "limit" in m else f"{m} ({n} units)"
                  for m, n in sorted(broken.items(), key=lambda kv: kv[0][:4]))
     return Recost(float(total), msgs)
+
+
+def _overhaul_of(t, a: int, oh, y: int, broken: Counter) -> Overhaul:
+    """The overhaul a plan does to a ``t`` at age ``a`` in ``y``; counted in ``broken`` when ``t`` has
+    none, the unit was overhauled before or the age is not allowed (it is then priced as free)."""
+    if t.overhaul is None or oh is not None or a not in t.overhaul.ages:
+        broken[f"{y}: overhauls a {t.id} at age {a}, which the scenario does not allow"] += 1
+        return t.overhaul or Overhaul(0.0, a, a, a, 0)
+    return t.overhaul
+
+
+def _end_cost(case: Case, t, a: int, oh, u, chain_cost) -> float:
+    """End value of holding a ``t`` of age ``a`` at the end [money at the end year, a cost]: minus its
+    market value, or (continuing) its continuing cost; a unit off the reference usage or overhauled is
+    sold and followed by the best chain, as in ``tenure.derived``."""
+    s = case.study
+    y0, y_end = s.start_year, s.start_year + s.horizon
+    mv = float(derived.value_at(t, a, y_end, y0, derived.ratio(t, u)))
+    if s.end_value == "salvage":
+        return -mv
+    if oh is not None or derived.ratio(t, u) != 1.0 or derived.row_max_age(t, u, False) != t.max_age:
+        return chain_cost - mv
+    a_end = min(a, t.max_age)
+    return life.continuing_cost(t, a_end, y_end - a_end, chain_cost, s.discount_rate, y0, y_end)
 
 
 def _budget_breaks(case: Case, capital, proceeds, buys, broken: Counter) -> None:

@@ -30,13 +30,13 @@ def make_task(case: Case, overrides: Mapping[str, Any], options: Mapping[str, An
 
 
 def first_year_actions(plan_dict: Mapping, year: int) -> dict[str, str]:
-    """``{unit: "keep" | "replace:<type>"}`` for one calendar year of a ``plan.to_dict()``."""
+    """``{unit: "keep" | "replace:<type>" | "overhaul"}`` for one calendar year of a ``plan.to_dict()``."""
     out = {}
     for u in plan_dict.get("units", []):
         act = "keep"
         for e in u["events"]:
             if e["year"] == year:
-                act = f"replace:{e['type']}"
+                act = "overhaul" if e.get("action") == "overhaul" else f"replace:{e['type']}"
         out[u["unit"]] = act
     return out
 
