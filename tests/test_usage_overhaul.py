@@ -24,7 +24,8 @@ import networkx as nx
 import numpy as np
 import pytest
 
-from tenure import chain, curves, solve
+from tenure import chain, curves
+from tenure.solve import solve
 from tenure.case import CaseError, build_case
 from tenure.report.tables import units_csv
 from tenure.uncapped import solve_uncapped, starting_states
@@ -264,7 +265,7 @@ def test_exhaustive_joint_schedules_equal_fleet_layer(cap, basis):
     units = [{"id": "A", "type": "bus", "age": 3}, {"id": "B", "type": "bus", "age": 4},
              {"id": "C", "type": "bus", "age": 3, "usage": 65000}, {"id": "D", "type": "bus", "age": 5}]
     case = build_case(bus_doc(horizon=4, units=units, budget={"cap": cap, "basis": basis}))
-    plan = solve.solve(case, gap=0.0, time_limit=60)
+    plan = solve(case, gap=0.0, time_limit=60)
     best = _joint_best(case, units)
     assert plan.status == "optimal"
     assert plan.present_cost == pytest.approx(best, rel=1e-7)
@@ -288,7 +289,7 @@ def test_units_csv_recosted_equals_present_cost(cap):
     """Every unit's events in units.csv, replayed year by year with the independent pricer, give the
     reported present cost."""
     case = _fleet_case(cap)
-    plan = solve.solve(case, time_limit=60)
+    plan = solve(case, time_limit=60)
     rows = list(csv.DictReader(io.StringIO(units_csv(plan))))
     usage = {n: u.usage for u in case.units for n in u.names()}
     i, H = case.study.discount_rate, case.study.horizon
@@ -315,7 +316,7 @@ def test_ages_and_overhaul_rules_hold_in_plans():
     """No unit exceeds its usage-limited max age (+ adds_years after an overhaul); overhauls only at the
     allowed ages, at most once per unit."""
     case = _fleet_case(400000)
-    plan = solve.solve(case, time_limit=60)
+    plan = solve(case, time_limit=60)
     usage = {n: u.usage for u in case.units for n in u.names()}
     seen = 0
     for u in plan.units:
@@ -415,7 +416,7 @@ def test_demo_with_usage_and_overhaul_recosted_from_units_csv():
     case = load_case(DEMO)
     assert {u.usage for u in case.units if u.type == "pu-gasoline"} == {None, 12000, 16000, 26000, 32000}
     assert case.type("bus-diesel").overhaul.ages == range(7, 11)
-    plan = solve.solve(case, time_limit=60)
+    plan = solve(case, time_limit=60)
     assert plan.success
     costs = _recost_units(case, plan)
     for u in plan.units:
@@ -494,7 +495,7 @@ def test_scenario_recost_of_a_usage_and_overhaul_plan_equals_its_cost():
     from tenure import scenarios as sc
 
     case = _fleet_case(400000)
-    plan = solve.solve(case, time_limit=60).to_dict()
+    plan = solve(case, time_limit=60).to_dict()
     r = sc.recost(plan, case)
     assert r.cost == pytest.approx(plan["present_cost"], abs=0.01)
     assert not r.breaks
@@ -535,7 +536,7 @@ def test_continuing_end_value_with_usage_and_overhaul_recosts_equal():
     doc = bus_doc(horizon=6, units=units)
     doc["study"]["end_value"] = "continuing"
     case = build_case(doc)
-    plan = solve.solve(case).to_dict()
+    plan = solve(case).to_dict()
     r = sc.recost(plan, case)
     assert not r.breaks
     assert r.cost == pytest.approx(plan["present_cost"], abs=0.01)
