@@ -248,7 +248,7 @@ def build_parser() -> argparse.ArgumentParser:
     c.add_argument("--out", required=True, help="folder for plan.json, units.csv, years.csv and the report")
     c.add_argument("--solver", choices=("highs", "cbc"), default="highs", help="integer-program solver (highs)")
     c.add_argument("--time-limit", type=float, default=120.0, help="seconds for a capped solve (120)")
-    c.add_argument("--gap", type=float, default=0.005, help="relative optimality gap to stop at (0.005)")
+    c.add_argument("--gap", type=float, default=1e-4, help="relative optimality gap to stop at; optimal means proven within it (0.0001)")
     c.add_argument("--quiet", action="store_true", help="no progress line")
     c.set_defaults(func=cmd_plan)
 
@@ -267,7 +267,7 @@ def build_parser() -> argparse.ArgumentParser:
                             "running Dask scheduler, e.g. tcp://scheduler-host:8786")
         c.add_argument("--solver", choices=("highs", "cbc"), default="highs", help="integer-program solver (highs)")
         c.add_argument("--time-limit", type=float, default=120.0, help="seconds per capped solve (120)")
-        c.add_argument("--gap", type=float, default=0.005, help="relative optimality gap to stop at (0.005)")
+        c.add_argument("--gap", type=float, default=1e-4, help="relative optimality gap to stop at; optimal means proven within it (0.0001)")
         c.add_argument("--quiet", action="store_true", help="no progress bar")
 
     c = sub.add_parser("compare", help="solve the base case and each scenario; regret and what is safe to commit now")
