@@ -31,8 +31,15 @@ def _case(path: str):
 
 # ---------------------------------------------------------------------------
 def cmd_check(args) -> int:
+    from .fleet.precheck import forced_over_caps
+
     case = _case(args.case)
     print(text.case_summary(case))
+    over = forced_over_caps(case)
+    if over:
+        print("\ncase is valid as input, but no plan can fit its caps and limits (exit 3):")
+        print("\n".join("  " + f.describe() for f in over))
+        return 3
     print("\ncase is valid.")
     return 0
 

@@ -28,6 +28,7 @@ from ..plan import Plan, Provenance, assemble
 from ..uncapped import build_graphs, solve_uncapped
 from .backend import DEFAULT_BACKEND, Backend, confirming_backends, get_backend
 from .flows import fits_caps, flows_to_groups
+from .precheck import forced_over_caps
 from .program import build_program
 from .rounding import fix_and_relax
 from .shortfall import shortfall
@@ -105,6 +106,11 @@ def solve_capped(case: Case, backend: str = DEFAULT_BACKEND, time_limit: float =
 
 def _solve_program(run: _Run, gap: float) -> Plan:
     case, stats, label = run.case, run.stats, run.backend.label
+    over = forced_over_caps(case, run.graphs)
+    if over:
+        stats["forced_over_caps"] = [f.describe() for f in over]
+        run.log("pre-check: " + over[0].describe()[:160])
+        return _infeasible(run, proven=True)
     prog = build_program(case, run.graphs)
     stats.update(columns=prog.n_cols, rows=prog.n_rows)
     run.log(f"cohort program: {prog.n_cols} columns, {prog.n_rows} rows")
@@ -113,7 +119,7 @@ def _solve_program(run: _Run, gap: float) -> Plan:
     stats["lp_seconds"] = run.elapsed()
     if lp.x is None:
         run.log(f"LP relaxation: {lp.status} — diagnosing the shortfall")
-        return _infeasible(run, proven=lp.status == "infeasible")
+        return _infeasible(run)
     lp_bound = float(prog.cost @ lp.x)
     shadow = {case.study.start_year + k: float(max(0.0, -lp.row_duals[prog.cap_rows[k]]))
               for k in range(case.study.horizon) if prog.cap_rows[k] >= 0}
@@ -188,14 +194,15 @@ def _infeasible(run: _Run, proven: bool = False) -> Plan:
     "infeasible" only on a proof: the elastic program's bound shows that extra capital is needed,
     and, when the back end is not the default one, the default back end proves it too
     (:func:`~tenure.fleet.backend.confirming_backends`), so no solver's false verdict reaches the
-    user.  Otherwise the status is "unsolved".  ``proven`` is accepted for compatibility; an LP
-    verdict is confirmed the same way.
+    user.  Otherwise the status is "unsolved".  ``proven`` True: the pre-check's arithmetic
+    (:mod:`tenure.fleet.precheck`) already proved it, whatever the solver; an LP's verdict is
+    confirmed like the others.
     """
     case, stats = run.case, run.stats
     left = max(5.0, run.deadline - time.perf_counter())
     sf = shortfall(case, run.graphs, run.backend, left, run.uncapped_cost, stats.get("tolerance", DEFAULT_GAP))
     confirmed, bound = sf.proven, sf.bound
-    for other in confirming_backends(stats["solver"]) if confirmed else ():
+    for other in confirming_backends(stats["solver"]) if confirmed and not proven else ():
         check = shortfall(case, run.graphs, get_backend(other), max(5.0, left / 2), run.uncapped_cost,
                           stats.get("tolerance", DEFAULT_GAP))
         confirmed, bound = confirmed and check.proven, min(bound, check.bound)
@@ -208,7 +215,7 @@ def _infeasible(run: _Run, proven: bool = False) -> Plan:
     total = float(sf.extra.sum())
     least = sf.least and total - bound <= max(1.0, 1e-4 * total)
     stats.update(shortfall_at_most=total, shortfall_at_least=bound, shortfall_least=least)
-    if confirmed:
+    if confirmed or proven:
         status, message = "infeasible", ("no plan fits the caps (proven); the plan shown fits the caps raised "
                                          "by the shortfall")
     else:

@@ -67,7 +67,7 @@ def shortfall(case: Case, graphs, backend: type[Backend], time_limit: float, unc
     n0, m = prog.n_cols, len(years)
     integrality = np.concatenate([np.ones(n0, dtype=np.int32), np.zeros(m, dtype=np.int32)])
     stage1 = _with_cost(el, np.concatenate([np.zeros(n0), np.ones(m)]))
-    res = backend(stage1, integrality).solve_mip(max(0.6 * time_limit, 3.0), 0.0)
+    res = backend(stage1, integrality).solve_mip(max(0.6 * time_limit, 5.0), 0.0)
     if res.x is None:
         if res.status == "infeasible":  # even unlimited capital does not help: a limit binds
             raise InfeasibleLimits()
