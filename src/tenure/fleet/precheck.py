@@ -36,15 +36,16 @@ class ForcedOverCap:
     available: float
     units: tuple[str, ...]
     class_: str | None = None
+    start_year: int | None = None
 
     def describe(self) -> str:
         names = ", ".join(self.units[:12]) + (" …" if len(self.units) > 12 else "")
-        y0 = "the start year"
         if self.class_ is not None:
             return (f"class {self.class_}: {len(self.units)} units reach max age by {self.year} but its purchase "
                     f"limit allows {self.available:,.0f} purchases up to then: {names}")
-        return (f"by {self.year} the forced replacements need at least {self.needed:,.0f} of capital against "
-                f"{self.available:,.0f} of caps from {y0} to {self.year}: {names}")
+        when = (f"in {self.year}" if self.year == self.start_year else f"from {self.start_year} to {self.year}")
+        return (f"{when} the replacements forced by max age need at least {self.needed:,.0f} of capital against "
+                f"{self.available:,.0f} of caps: {names}")
 
 
 def forced_over_caps(case: Case, graphs=None) -> list[ForcedOverCap]:
@@ -76,7 +77,7 @@ def forced_over_caps(case: Case, graphs=None) -> list[ForcedOverCap]:
                 k = int(over[0])
                 names = tuple(n for j in range(k + 1) for (t, a), ns in states.items()
                               if max(0, int(g.max_age[t]) - a) == j for n in ns)
-                out.append(ForcedOverCap(y0 + k, float(cum[k]), float(lim * (k + 1)), names, cls))
+                out.append(ForcedOverCap(y0 + k, float(cum[k]), float(lim * (k + 1)), names, cls, y0))
     if case.budget is not None and (not net or _trades_never_free_money(graphs)):
         caps = np.array([case.budget.cap_for(y0 + k) if case.budget.cap_for(y0 + k) is not None else math.inf
                          for k in range(H)], dtype=float)
@@ -84,7 +85,8 @@ def forced_over_caps(case: Case, graphs=None) -> list[ForcedOverCap]:
         if len(over):
             k = int(over[0])
             units = tuple(n for j in range(k + 1) for n in forced_by[j])
-            out.insert(0, ForcedOverCap(y0 + k, float(np.cumsum(need)[k]), float(np.cumsum(caps)[k]), units))
+            out.insert(0, ForcedOverCap(y0 + k, float(np.cumsum(need)[k]), float(np.cumsum(caps)[k]), units,
+                                        start_year=y0))
     return out
 
 

@@ -164,7 +164,8 @@ def fix_and_relax(prog: CohortProgram, case: Case, be: Backend, x: np.ndarray, d
 
     Returns the integral solution vector, or None when no rounding is found
     (the MIP solver then takes over).  On failure, ``partial`` (a list, when given) receives the
-    deepest prefix of fixed years seen as ``(columns, values)``, a partial start for the MIP.  The back end's column bounds are restored either way.
+    deepest prefix of fixed years seen as ``(columns, values)``, a partial start for the MIP.
+    The back end's column bounds are restored either way.
     """
     H = case.study.horizon
     lower = prog.lower.copy()

@@ -94,7 +94,8 @@ def plan_summary(plan, case: Case, out_dir: str | None = None, written: list[str
         lines.append(f"proven lower bound {money(plan.lower_bound)}  (gap {plan.gap:.3%}"
                      + (f"; bound from the {bound_from})" if bound_from else ")"))
     if plan.tolerance is not None and plan.status in ("optimal", "feasible"):
-        lines.append(f"optimal means proven within a relative gap of {plan.tolerance:.4%}; this plan's gap {plan.gap:.4%}")
+        lines.append(f"optimal means proven within a relative gap of {plan.tolerance:.4%}; "
+                     f"this plan's gap {plan.gap:.4%}")
     if plan.premium is not None:
         lines.append(f"premium over the uncapped plan: {money(plan.premium)}  (uncapped {money(plan.uncapped_cost)})")
     by_cls: dict[str, Counter] = {}
