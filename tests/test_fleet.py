@@ -368,8 +368,8 @@ def test_cbc_and_highs_run_the_same_sequence_to_the_same_optimum(name, monkeypat
     calls = []
     real = driver.fix_and_relax
 
-    def spy(prog, case, be, x, deadline, log=None):
-        out = real(prog, case, be, x, deadline, log)
+    def spy(prog, case, be, x, deadline, log=None, **kw):
+        out = real(prog, case, be, x, deadline, log, **kw)
         calls.append((type(be), out is not None))
         return out
 

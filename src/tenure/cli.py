@@ -119,14 +119,18 @@ def _commit(tx, meta: dict) -> list[Path]:
 # ---------------------------------------------------------------------------
 def cmd_check(args) -> int:
     from .checkall import check_everything
+    from .fleet.precheck import forced_over_caps
 
     case = _case(args.case)
     check_everything(case)
     print(text.case_summary(case))
-    if _warn_block(case):
-        print("\ncase is valid (the warnings above do not stop a run).")
-    else:
-        print("\ncase is valid.")
+    found = _warn_block(case)
+    over = forced_over_caps(case)
+    if over:
+        print("\ncase is valid as input, but no plan can fit its caps and limits (exit 3):")
+        print("\n".join("  " + f.describe() for f in over))
+        return 3
+    print("\ncase is valid (the warnings above do not stop a run)." if found else "\ncase is valid.")
     return 0
 
 
@@ -470,7 +474,7 @@ def build_parser() -> argparse.ArgumentParser:
     c.add_argument("--out", required=True, help="folder for plan.json, units.csv, years.csv and the report")
     c.add_argument("--solver", choices=("highs", "cbc"), default="highs", help="integer-program solver (highs)")
     c.add_argument("--time-limit", type=float, default=120.0, help="seconds for a capped solve (120)")
-    c.add_argument("--gap", type=float, default=0.005, help="relative optimality gap to stop at (0.005)")
+    c.add_argument("--gap", type=float, default=1e-4, help="relative optimality gap to stop at; optimal means proven within it (0.0001)")
     c.add_argument("--quiet", action="store_true", help="no progress line")
     c.add_argument("--list-years", type=int, default=2, metavar="N",
                    help="planning years covered by buy-list.csv and the spreadsheet's buy list (2)")
@@ -495,7 +499,7 @@ def build_parser() -> argparse.ArgumentParser:
                             "running Dask scheduler, e.g. tcp://scheduler-host:8786")
         c.add_argument("--solver", choices=("highs", "cbc"), default="highs", help="integer-program solver (highs)")
         c.add_argument("--time-limit", type=float, default=120.0, help="seconds per capped solve (120)")
-        c.add_argument("--gap", type=float, default=0.005, help="relative optimality gap to stop at (0.005)")
+        c.add_argument("--gap", type=float, default=1e-4, help="relative optimality gap to stop at; optimal means proven within it (0.0001)")
         c.add_argument("--quiet", action="store_true", help="no progress bar")
 
     c = sub.add_parser("compare", help="solve the base case and each scenario; regret and what is safe to commit now")

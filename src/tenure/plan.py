@@ -172,6 +172,14 @@ class Plan:
     tax_rate : float or None
         Set when the present cost is after tax (docs/conventions.md, "Income
         tax"); the yearly capital, market value and O&M stay before tax.
+    tolerance : float or None
+        The relative gap the solve stopped at: "optimal" means proven within it (None: exact
+        method, no tolerance).
+    shortfall_bound : float or None
+        A proven lower bound on the least total extra capital [money, undiscounted]; the total of
+        ``shortfall`` is an upper bound.
+    shortfall_least : bool
+        True when the total of ``shortfall`` is proven least (within the tolerance).
     """
 
     status: str
@@ -193,6 +201,9 @@ class Plan:
     forcing_units: tuple = ()
     provenance: Provenance | None = None
     tax_rate: float | None = None
+    tolerance: float | None = None
+    shortfall_bound: float | None = None
+    shortfall_least: bool = True
 
     @property
     def success(self) -> bool:
@@ -252,6 +263,7 @@ class Plan:
             "present_cost": _r(self.present_cost),
             "lower_bound": _r(self.lower_bound),
             "gap": self.gap,
+            "tolerance": self.tolerance,
             "uncapped_cost": _r(self.uncapped_cost),
             "premium": _r(self.premium),
             "basis": self.basis,
@@ -284,6 +296,8 @@ class Plan:
         if self.status in ("infeasible", "unsolved") or self.shortfall:
             d["shortfall"] = [{"year": y, "extra_capital": _r(x)} for y, x in self.shortfall]
             d["forcing_units"] = list(self.forcing_units)
+            d["shortfall_least"] = self.shortfall_least
+            d["shortfall_at_least"] = _r(self.shortfall_bound)
         return d
 
 
@@ -352,7 +366,8 @@ def assemble(case: Case, graphs: dict[str, StageGraph], groups: Sequence[PathGro
                              carbon=float(s.carbon_price * acc["tonnes"][k]),
                              price_index=float((1.0 + s.inflation) ** k)))
     lb = total if lower_bound is None else min(lower_bound, total)
-    gap = 0.0 if status == "optimal" else (total - lb) / max(abs(total), 1e-9)
+    # "optimal" within a tolerance keeps its proven gap; an exact method passes no bound
+    gap = (total - lb) / max(abs(total), 1e-9)
     return Plan(status=status, method=method, present_cost=float(total), lower_bound=float(lb),
                 gap=float(max(gap, 0.0)), years=tuple(years), units=tuple(units), end_year=y0 + H,
                 end_value=s.end_value, end_market_value=float(end_mv), by_class=by_class,

@@ -67,9 +67,18 @@ class Backend(ABC):
 
     @abstractmethod
     def solve_mip(self, time_limit: float, gap: float, start: np.ndarray | None = None,
-                  on_incumbent: OnIncumbent | None = None) -> MIPResult:
+                  on_incumbent: OnIncumbent | None = None, partial_start=None) -> MIPResult:
         """Integer solve of the program (original bounds) for at most ``time_limit`` [s], stopping at
-        relative gap ``gap``, from the integral point ``start`` when given."""
+        relative gap ``gap``, from the integral point ``start`` when given; else from
+        ``partial_start`` ``(columns, values)`` when given, values for some columns only, which the
+        solver completes if it can (a hint: it changes no bound and no proof)."""
+
+
+def confirming_backends(name: str) -> tuple[str, ...]:
+    """The back ends that must agree before a verdict of ``name`` that no plan exists reaches the
+    user: every registered back end other than ``name`` that is the default (the default confirms
+    the others' proofs; its own proofs stand)."""
+    return () if name == DEFAULT_BACKEND else (DEFAULT_BACKEND,)
 
 
 _REGISTRY: dict[str, str] = {"highs": "tenure.fleet.highs:HighsBackend", "cbc": "tenure.fleet.cbc:CbcBackend"}

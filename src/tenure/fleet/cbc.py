@@ -81,7 +81,7 @@ class CbcBackend(Backend):
         for j, lo, hi in zip(np.asarray(cols).tolist(), np.asarray(lower).tolist(), np.asarray(upper).tolist()):
             xs[j].lowBound, xs[j].upBound = _bound(lo), _bound(hi)
 
-    def solve_mip(self, time_limit, gap, start=None, on_incumbent=None) -> MIPResult:
+    def solve_mip(self, time_limit, gap, start=None, on_incumbent=None, partial_start=None) -> MIPResult:
         """pulp reports "Optimal" also when CBC stopped within its gap tolerance, so the proof is read
         from CBC's log: "optimal" only when CBC proved the point optimal; otherwise the bound is the
         "Lower bound" CBC logs (None when it logs none).  CBC offers no incumbent callback here."""
@@ -91,10 +91,13 @@ class CbcBackend(Backend):
         if start is not None:
             for v, val in zip(xs, start):
                 v.setInitialValue(float(val))
+        elif partial_start is not None and len(partial_start[0]):
+            for j, val in zip(np.asarray(partial_start[0]).tolist(), np.asarray(partial_start[1]).tolist()):
+                xs[j].setInitialValue(float(val))
         with tempfile.TemporaryDirectory(prefix="tenure-cbc-") as tmp:
             log_path = os.path.join(tmp, "cbc.log")
             solver = pulp.PULP_CBC_CMD(msg=False, timeLimit=max(1, int(time_limit)), gapRel=gap,
-                                       warmStart=start is not None, logPath=log_path)
+                                       warmStart=start is not None or partial_start is not None, logPath=log_path)
             prob.solve(solver)
             try:
                 with open(log_path, encoding="utf-8", errors="replace") as fh:

@@ -92,7 +92,7 @@ class HighsBackend(Backend):
         self._lp.changeColsBounds(len(cols), np.asarray(cols, dtype=np.int32), np.asarray(lower, dtype=float),
                                   np.asarray(upper, dtype=float))
 
-    def solve_mip(self, time_limit, gap, start=None, on_incumbent=None) -> MIPResult:
+    def solve_mip(self, time_limit, gap, start=None, on_incumbent=None, partial_start=None) -> MIPResult:
         h = _load(self.prog, self.prog.lower, self.prog.upper, self.integrality)
         h.setOptionValue("time_limit", float(max(time_limit, 1.0)))
         h.setOptionValue("mip_rel_gap", float(gap))
@@ -103,6 +103,10 @@ class HighsBackend(Backend):
             sol.col_value = list(start)
             sol.value_valid = True
             h.setSolution(sol)
+        elif partial_start is not None and len(partial_start[0]):
+            # HiGHS completes a partial assignment by a sub-MIP over the columns left free
+            idx, val = partial_start
+            h.setSolution(len(idx), np.asarray(idx, dtype=np.int32), np.asarray(val, dtype=float))
         h.run()
         info = h.getInfo()
         if info.primal_solution_status != 2:

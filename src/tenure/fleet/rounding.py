@@ -237,7 +237,7 @@ def _follow_mix(lp: np.ndarray, idx: np.ndarray, price: np.ndarray, n_buy: float
 
 
 def fix_and_relax(prog: CohortProgram, case: Case, be: Backend, x: np.ndarray, deadline: float, log=None,
-                  max_backtracks: int | None = None):
+                  max_backtracks: int | None = None, partial: list | None = None):
     """Round the LP solution year by year, re-solving the LP for the later years.
 
     A year is rounded as the LP suggests first, then more eagerly (see
@@ -246,7 +246,9 @@ def fix_and_relax(prog: CohortProgram, case: Case, be: Backend, x: np.ndarray, d
     eagerly (at most ``max_backtracks`` times, default twice the horizon).
 
     Returns the integral solution vector, or None when no rounding is found
-    (the MIP solver then takes over).  The back end's column bounds are restored either way.
+    (the MIP solver then takes over).  On failure, ``partial`` (a list, when given) receives the
+    deepest prefix of fixed years seen as ``(columns, values)``, a partial start for the MIP.
+    The back end's column bounds are restored either way.
     """
     H = case.study.horizon
     lower = prog.lower.copy()
@@ -284,6 +286,8 @@ def fix_and_relax(prog: CohortProgram, case: Case, be: Backend, x: np.ndarray, d
         if fixed:
             k, first_mode = k + 1, 0
             continue
+        if partial is not None and sum(len(s[0]) for s in stack) > sum(len(c) for c, _ in partial):
+            partial[:] = [(s[0].copy(), s[1].copy()) for s in stack]
         if not stack or backtracks >= budget:
             if log:
                 log(f"year {case.study.start_year + k}: no rounding keeps the later years feasible")

@@ -11,7 +11,8 @@ of the simplex method: common practice).
 from __future__ import annotations
 
 import math
-from dataclasses import dataclass
+import time
+from dataclasses import dataclass, replace
 
 import numpy as np
 
@@ -29,31 +30,44 @@ TIE_BREAK = 1e-6
 class Shortfall:
     """``extra`` (H,) whole units of money added to each year's cap [money, undiscounted];
     ``x`` the integral flows of the plan under the raised caps; ``prog`` the program they belong to;
-    ``proven`` True when the solver proved that some extra capital is needed."""
+    ``bound`` a proven lower bound on the least total extra capital [money, undiscounted] (0 when
+    nothing is proven); ``proven`` True when that bound shows some extra capital is needed;
+    ``least`` True when ``extra.sum()`` is proven least (within one unit of money or the gap)."""
 
     extra: np.ndarray
     x: np.ndarray
     prog: CohortProgram
     proven: bool
+    bound: float = 0.0
+    least: bool = False
 
 
-def shortfall(case: Case, graphs, backend: type[Backend], time_limit: float, uncapped_cost: float) -> Shortfall:
+#: the least total extra capital is taken as proven when the bound is within this of it [money] …
+ABS_TOL = 1.0
+#: … or within this relative gap
+REL_TOL = 1e-4
+
+
+def shortfall(case: Case, graphs, backend: type[Backend], time_limit: float, uncapped_cost: float = 0.0,
+              gap: float = REL_TOL) -> Shortfall:
     """Solve the elastic program of ``case`` with ``backend`` for at most ``time_limit`` [s].
 
-    ``uncapped_cost`` [money, time 0]: the uncapped optimum; every plan costs at least that, so the
-    tie-break term is at least ``TIE_BREAK·uncapped_cost`` and is taken off the dual bound before
-    deciding whether extra capital is proven necessary.
+    Two stages on one program (lexicographic, common practice): (1) minimise the total extra
+    capital Σ e_k alone, so the solver's dual bound *is* a lower bound on the least extra capital
+    (no cost term mixed in that could lift the bound without any extra being needed); (2) with each
+    e_k bounded by stage 1's values, minimise the flows' present cost from stage 1's point.
+    ``uncapped_cost`` is accepted for compatibility and not used.
 
     Raises :class:`~tenure.plan.InfeasibleLimits` when even unlimited capital does not help and
     :class:`~tenure.plan.NoPlanFound` when no point is found in the time.
     """
+    t0 = time.perf_counter()
     prog = build_program(case, graphs)
     el, years = prog.with_elastic_caps()
     n0, m = prog.n_cols, len(years)
-    el = _with_cost(el, np.concatenate([prog.cost * TIE_BREAK, np.ones(m)]))
     integrality = np.concatenate([np.ones(n0, dtype=np.int32), np.zeros(m, dtype=np.int32)])
-    # any feasible point fixes the case; the gap only bounds how far above the least extra it may be
-    res = backend(el, integrality).solve_mip(max(time_limit, 5.0), 1e-3)
+    stage1 = _with_cost(el, np.concatenate([np.zeros(n0), np.ones(m)]))
+    res = backend(stage1, integrality).solve_mip(max(0.6 * time_limit, 5.0), 0.0)
     if res.x is None:
         if res.status == "infeasible":  # even unlimited capital does not help: a limit binds
             raise InfeasibleLimits()
@@ -63,11 +77,31 @@ def shortfall(case: Case, graphs, backend: type[Backend], time_limit: float, unc
     for j, k in enumerate(years):
         v = res.x[n0 + j]
         extra[k] = math.ceil(max(0.0, v) - 1e-6) if v > 1e-6 else 0.0
-    least_extra = -math.inf if res.bound is None else res.bound - TIE_BREAK * uncapped_cost
-    return Shortfall(extra=extra, x=np.round(res.x[:n0]), prog=prog, proven=least_extra > 0.5)
+    total = float(extra.sum())
+    bound = 0.0 if res.bound is None else max(0.0, float(res.bound))
+    bound = min(bound, total)
+    least = res.status == "optimal" or total - bound <= max(ABS_TOL, gap * total)
+    x = np.round(res.x[:n0])
+    left = time_limit - (time.perf_counter() - t0)
+    if left > 1.0 and total > 0:
+        x = _cheapest_under(el, n0, m, years, extra, integrality, backend, left, gap, res.x, x)
+    return Shortfall(extra=extra, x=x, prog=prog, proven=bound > 0.5, bound=bound, least=least)
+
+
+def _cheapest_under(el, n0, m, years, extra, integrality, backend, time_limit, gap, start, fallback):
+    """Stage 2: the least present cost with each year's extra capital at most stage 1's."""
+    ub = el.upper.copy()
+    ub[n0:] = [extra[k] for k in years]
+    stage2 = replace(el, cost=np.concatenate([el.cost[:n0], np.zeros(m)]), upper=ub)
+    st = np.asarray(start, dtype=float).copy()
+    st[:n0] = np.round(st[:n0])
+    st[n0:] = np.minimum(np.maximum(st[n0:], 0.0), ub[n0:])
+    res = backend(stage2, integrality).solve_mip(time_limit, gap, st)
+    if res.x is None:
+        return fallback
+    x = np.round(res.x[:n0])
+    return x if float(el.cost[:n0] @ x) <= float(el.cost[:n0] @ fallback) else fallback
 
 
 def _with_cost(prog: CohortProgram, cost: np.ndarray) -> CohortProgram:
-    from dataclasses import replace
-
     return replace(prog, cost=cost)

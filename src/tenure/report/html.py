@@ -256,7 +256,8 @@ def summary_html(plan, case: Case) -> str:
                 f"proven lower bound {money(plan.lower_bound)}"
                 + (f" (from the {plan.provenance.lower_bound})" if plan.provenance and plan.provenance.lower_bound
                    else "") if plan.status == "feasible"
-                else ("no gap: the plan is optimal" if plan.status == "optimal" else "")),
+                else ("proven optimal" if plan.status == "optimal" else ""))
+                + (f"; optimal means proven within {pct(plan.tolerance, 4)}" if plan.tolerance is not None else ""),
     ]
     if plan.premium is not None:
         boxes.append(fig_box("Premium over the uncapped plan", money(plan.premium),
@@ -285,6 +286,10 @@ def summary_html(plan, case: Case) -> str:
                 "<strong>No plan within the caps was found in the time allowed</strong>, and none is proven "
                 "impossible. Raising these years' caps by the amounts below is enough for the plan shown; a "
                 "longer time limit may find a plan within the caps as they are.")
+        total = sum(x for _, x in plan.shortfall)
+        head += (f" Total {money(total)}: the least total extra capital, proven." if plan.shortfall_least else
+                 f" Total {money(total)}: not proven least; the least total extra capital is at most "
+                 f"{money(total)} and at least {money(plan.shortfall_bound or 0.0)}.")
         out.append('<div class="notice">' + head + table(("year", "extra capital needed"), rows, num=(1,)))
         if plan.forcing_units:
             out.append("<p>Units whose forced replacement needs the money: "

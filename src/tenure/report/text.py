@@ -113,6 +113,9 @@ def plan_summary(plan, case: Case, out_dir: str | None = None, written: list[str
         bound_from = plan.provenance.lower_bound if plan.provenance is not None else ""
         lines.append(f"proven lower bound {money(plan.lower_bound)}  (gap {plan.gap:.3%}"
                      + (f"; bound from the {bound_from})" if bound_from else ")"))
+    if plan.tolerance is not None and plan.status in ("optimal", "feasible"):
+        lines.append(f"optimal means proven within a relative gap of {plan.tolerance:.4%}; "
+                     f"this plan's gap {plan.gap:.4%}")
     if plan.premium is not None:
         lines.append(f"premium over the uncapped plan: {money(plan.premium)}  (uncapped {money(plan.uncapped_cost)})")
     by_cls: dict[str, Counter] = {}
@@ -156,8 +159,11 @@ def plan_summary(plan, case: Case, out_dir: str | None = None, written: list[str
             lines.append("NO PLAN WITHIN THE CAPS WAS FOUND in the time allowed, and none is proven impossible.")
             lines.append("A longer --time-limit may find one; the shortfall below is enough for the plan shown.")
         total = sum(x for _, x in plan.shortfall)
+        least = ("the least total extra capital, proven" if plan.shortfall_least else
+                 f"not proven least: the least total extra capital is at most {money(total)} and at least "
+                 f"{money(plan.shortfall_bound or 0.0)}")
         lines.append(f"Raising these years' caps by these amounts makes the plan shown possible "
-                     f"(total {money(total)}, the least total extra capital found):")
+                     f"(total {money(total)}; {least}):")
         cells = [f"{y}: {money(x, 10)}" for y, x in plan.shortfall]
         for j in range(0, len(cells), 4):
             lines.append("  " + "   ".join(cells[j:j + 4]))

@@ -1,0 +1,167 @@
+"""Default precision of the fleet layer: plans proven within the default tolerance, shortfalls proven
+least or given as two bounds, infeasibility claimed only on a proof.
+
+References outside the project: exhaustive search of joint schedules priced from ``tenure.curves``
+(``test_fleet.exhaustive_optimum``) and hand arithmetic from the case (docs/conventions.md: a unit
+at max_age must be replaced that year).
+"""
+
+from __future__ import annotations
+
+import os
+import subprocess
+import sys
+
+import pytest
+
+from casekit import to_toml
+from tenure import fleet
+from tenure.case import build_case
+from tenure.fleet import driver
+from tenure.fleet.backend import MIPResult, get_backend
+from tenure.fleet.precheck import forced_over_caps
+from tenure.plan import NoPlanFound
+from tenure.report.text import plan_summary
+from test_fleet import (SMALL, FORCED_UNITS, close, exhaustive, exhaustive_optimum, forced_doc, small_case,
+                        small_doc, _demo_with_cap)
+
+#: 3–6-unit fleets, gross and net, with caps and a purchase limit, beyond test_fleet.SMALL; each binds
+MORE = {
+    "gross-3-units-40k": dict(cap=40000, units=FORCED_UNITS[2:]),
+    "net-6-units-18k-4-years": dict(cap=18000, basis="net", horizon=4, units=FORCED_UNITS[2:] + [
+        {"id": "V4", "type": "van-a", "age": 3}, {"id": "V5", "type": "van-a", "age": 1},
+        {"id": "C3", "type": "cart-old", "age": 0}]),
+    "gross-4-units-limit": dict(cap=70000, limit=1, units=FORCED_UNITS[2:] + [{"id": "V4", "type": "van-a",
+                                                                             "age": 5}]),
+}
+
+
+def _case(name):
+    return small_case(name) if name in SMALL else build_case(small_doc(**MORE[name]))
+
+
+@pytest.mark.parametrize("solver", ["highs", "cbc"])
+@pytest.mark.parametrize("name", list(SMALL) + list(MORE))
+def test_default_run_reaches_the_exhaustive_optimum(name, solver):
+    """At the default settings every small capped fleet is solved to its exhaustive optimum and
+    called optimal, with the default tolerance recorded."""
+    case = _case(name)
+    best, _ = exhaustive_optimum(case)
+    assert best is not None
+    plan = fleet.solve_capped(case, backend=solver)
+    assert plan.premium > 1.0  # the caps or the limit bind: the uncapped recursion alone would not do
+    assert plan.status == "optimal"
+    assert close(plan.present_cost, best)
+    assert plan.tolerance == driver.DEFAULT_GAP == 1e-4
+    assert plan.to_dict()["tolerance"] == 1e-4
+    assert plan.gap <= 1e-4
+
+
+def test_loose_gap_is_never_called_optimal_beyond_the_default_tolerance():
+    plan = fleet.solve_capped(small_case("gross-45k"), gap=0.05)
+    assert plan.tolerance == 1e-4
+    assert (plan.status == "optimal") == (plan.gap <= 1e-4)
+    if plan.status == "optimal":
+        assert close(plan.present_cost, exhaustive("gross-45k"))
+
+
+@pytest.mark.parametrize("solver", ["highs", "cbc"])
+def test_known_shortfall_is_proven_least(solver):
+    """Hand arithmetic (test_fleet.test_known_shortfall_from_the_cli): two vans at max age in 2030 cost
+    2 × 30,000 against a 50,000 cap; the least extra capital is exactly 10,000, proven."""
+    plan = fleet.solve_capped(build_case(forced_doc()), backend=solver)
+    assert plan.status == "infeasible"
+    assert plan.shortfall == ((2030, 10000.0),)
+    assert plan.shortfall_least
+    assert 10000.0 - 1.0 <= plan.shortfall_bound <= 10000.0
+    d = plan.to_dict()
+    assert d["shortfall_least"] is True and d["shortfall_at_least"] >= 9999.0
+
+
+def _no_bound_backend(base):
+    """``base`` whose integer solve stops without a proven bound (as at a time limit)."""
+    class NoBound(base):
+        label = "stopped"
+
+        def solve_mip(self, *a, **kw):
+            r = super().solve_mip(*a, **kw)
+            return MIPResult("feasible" if r.x is not None else r.status, r.x, None)
+
+    return NoBound
+
+
+def test_unproven_shortfall_is_not_called_least(monkeypatch):
+    """A solve stopped before its proof (no bound) must give both numbers and never say "least"."""
+    stopped = _no_bound_backend(get_backend("highs"))
+    monkeypatch.setattr(driver, "get_backend", lambda name: stopped)
+    _, case = _demo_with_cap(1_600_000)
+    monkeypatch.setattr(driver, "forced_over_caps", lambda case, graphs=None: [])  # reach the solver
+    plan = fleet.solve_capped(case, backend="stopped", time_limit=20)
+    assert plan.status == "unsolved"  # nothing proven: no infeasibility claimed
+    assert not plan.shortfall_least and plan.shortfall_bound == 0.0
+    text = plan_summary(plan, case)
+    assert "not proven least" in text and "at most" in text and "least total extra capital, proven" not in text
+
+
+def test_short_time_limit_does_not_claim_least(monkeypatch):
+    """With a time limit too short for the proof, "least" is claimed only when the bound shows it."""
+    _, case = _demo_with_cap(1_600_000)
+    monkeypatch.setattr(driver, "forced_over_caps", lambda case, graphs=None: [])
+    try:
+        plan = fleet.solve_capped(case, time_limit=1)
+    except NoPlanFound as exc:  # no plan at all in the time: nothing is claimed
+        assert "least" not in str(exc)
+        return
+    total = sum(x for _, x in plan.shortfall)
+    if plan.shortfall_least:
+        assert plan.shortfall_bound >= total - max(1.0, 1e-4 * total)
+    else:
+        assert "not proven least" in plan_summary(plan, case)
+
+
+def test_false_cbc_verdict_is_not_passed_on(monkeypatch):
+    """A back end that wrongly proves infeasibility (a stand-in claiming a huge bound) is overruled by
+    the default back end's own proof: the case of test_fleet's gross-45k has an optimum."""
+    base = get_backend("cbc")
+
+    class Liar(base):
+        def solve_mip(self, *a, **kw):
+            return MIPResult("infeasible")
+
+    monkeypatch.setattr(driver, "get_backend", lambda name: Liar if name == "liar" else get_backend(name))
+    plan = fleet.solve_capped(small_case("gross-45k"), backend="liar")
+    assert plan.status != "infeasible"
+
+
+def test_precheck_names_the_forced_units_of_the_demo():
+    """Hand arithmetic (test_fleet.test_demo_shortfall_added_to_the_caps_makes_it_feasible): the demo's
+    2027 forced replacements cost at least 1,742,500 against a 1.2 M cap."""
+    _, case = _demo_with_cap(1_200_000)
+    over = forced_over_caps(case)
+    assert over and over[0].year == 2027 and over[0].class_ is None
+    assert over[0].needed == 1_742_500 and over[0].available == 1_200_000
+    assert len(over[0].units) == 7  # 2 refuse trucks, a bus, 3 pickups, a sweeper
+
+
+def test_precheck_finds_the_forced_vans_and_nothing_on_feasible_cases():
+    over = forced_over_caps(build_case(forced_doc()))
+    assert [(f.year, f.needed, f.available) for f in over] == [(2030, 60000.0, 50000.0)]
+    assert sorted(n.split("#")[0] for n in over[0].units) == ["V1", "V2"]
+    for name in SMALL:  # each has a plan (exhaustive search), so the check must find nothing
+        assert forced_over_caps(small_case(name)) == []
+
+
+def test_precheck_counts_forced_units_against_a_purchase_limit():
+    """Two vans at max age with at most one purchase a year: impossible (counting)."""
+    doc = small_doc(cap=10**6, limit=1, units=FORCED_UNITS)
+    over = forced_over_caps(build_case(doc))
+    assert [(f.class_, f.year, f.needed, f.available) for f in over] == [("van", 2030, 2.0, 1.0)]
+
+
+def test_check_command_reports_the_forced_units(tmp_path):
+    f = tmp_path / "forced.toml"
+    f.write_text(to_toml(forced_doc()), encoding="utf-8")
+    r = subprocess.run([sys.executable, "-m", "tenure.cli", "check", str(f)], capture_output=True, text=True,
+                       encoding="utf-8", env=dict(os.environ, PYTHONIOENCODING="utf-8"), timeout=120)
+    assert r.returncode == 3, r.stdout + r.stderr
+    assert "V1" in r.stdout and "V2" in r.stdout and "60,000" in r.stdout and "50,000" in r.stdout
