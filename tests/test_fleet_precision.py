@@ -146,7 +146,7 @@ def test_precheck_names_the_forced_units_of_the_demo():
 def test_precheck_finds_the_forced_vans_and_nothing_on_feasible_cases():
     over = forced_over_caps(build_case(forced_doc()))
     assert [(f.year, f.needed, f.available) for f in over] == [(2030, 60000.0, 50000.0)]
-    assert sorted(n.split("#")[0] for n in over[0].units) == ["V1", "V2"]
+    assert sorted(n.split(" ")[0].split("#")[0] for n in over[0].units) == ["V1", "V2"]
     for name in SMALL:  # each has a plan (exhaustive search), so the check must find nothing
         assert forced_over_caps(small_case(name)) == []
 

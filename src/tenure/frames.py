@@ -193,12 +193,16 @@ def types_frame(case: Case):
 
 def inventory_frame(case: Case):
     """The inventory as a DataFrame: one row per inventory line, columns id, type, age [years], count, then the
-    inventory's kept columns (department, …; None where a unit has none)."""
+    inventory's kept columns (department, …; None where a unit has none); ``usage`` [per year] after count
+    when some unit has one."""
     import pandas as pd
 
     kept = list(case.attribute_names)
-    rows = [(u.id, u.type, u.age, u.count) + tuple(dict(u.attributes).get(k) for k in kept) for u in case.units]
-    return pd.DataFrame(rows, columns=list(UNIT_FRAME_COLUMNS) + kept)
+    # a usage column only when some unit has one (None: the type's usage_reference)
+    used = ["usage"] if any(u.usage is not None for u in case.units) else []
+    rows = [(u.id, u.type, u.age, u.count) + ((u.usage,) if used else ()) + tuple(dict(u.attributes).get(k) for k in kept)
+            for u in case.units]
+    return pd.DataFrame(rows, columns=list(UNIT_FRAME_COLUMNS) + used + kept)
 
 
 def case_frames(case: Case) -> dict[str, Any]:
