@@ -165,3 +165,30 @@ def test_check_command_reports_the_forced_units(tmp_path):
                        encoding="utf-8", env=dict(os.environ, PYTHONIOENCODING="utf-8"), timeout=120)
     assert r.returncode == 3, r.stdout + r.stderr
     assert "V1" in r.stdout and "V2" in r.stdout and "60,000" in r.stdout and "50,000" in r.stdout
+
+
+def test_compare_on_the_demo_shows_gaps_and_no_own_plan_is_beaten():
+    """compare on the demo: under its own assumptions no scenario's own plan is beaten by another's
+    (regret is taken against the least known cost, so the diagonal is 0 and nothing is negative), and
+    the regret table states each scenario's proven gap, marking regrets below it."""
+    from tenure import scenarios as sc
+    from tenure.case import load_case
+    from tenure.report.compare import compare_text
+    from casekit import DEMO
+
+    case = load_case(DEMO)
+    cmp = sc.compare(case, list(case.scenarios), options={"time_limit": 20.0})
+    reg = cmp.regret
+    for i in cmp.ids:
+        if reg.regret[i][i] is not None:
+            assert reg.regret[i][i] == 0.0, i
+        assert all(r is None or r >= 0 for r in reg.regret[i].values())
+    text = compare_text(cmp)
+    row = next(ln for ln in text.splitlines() if ln.strip().startswith("proven gap"))
+    for j in cmp.ids:
+        g = cmp.scenario(j).gap
+        assert g is not None and f"{g:.3%}" in row
+        for i in cmp.ids:
+            r = reg.regret[i][j]
+            if r is not None and 0 < r <= g * abs(reg.best_under[j]) and not reg.breaks[i][j]:
+                assert "*" in text and "within solver" in text

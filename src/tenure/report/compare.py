@@ -134,6 +134,21 @@ def _own_plan_note(cmp: Comparison, i: str) -> str | None:
             f"{i}'s own plan ({why})")
 
 
+def _tolerance_money(cmp: Comparison) -> dict:
+    """Per scenario, its proven gap in money: gap × the least known cost under it [money]."""
+    out = {}
+    for j in cmp.ids:
+        g, best = cmp.scenario(j).gap, cmp.regret.best_under.get(j)
+        if g is not None and best is not None:
+            out[j] = float(g) * abs(float(best))
+    return out
+
+
+def _gap_cell(cmp: Comparison, j: str, tol: dict) -> str:
+    g = cmp.scenario(j).gap
+    return "—" if g is None else f"{g:.3%}"
+
+
 def _regret(cmp: Comparison, out: list[str], line, lab: int, w: int) -> None:
     reg = cmp.regret
     ids = cmp.ids
@@ -141,15 +156,24 @@ def _regret(cmp: Comparison, out: list[str], line, lab: int, w: int) -> None:
     out.append("Regret: each row's plan, schedule fixed, costed under each column's assumptions,")
     out.append("less the least cost of any plan that can be carried out there ('breaks': it cannot)")
     out.append(f"{'plan of':<{lab}}" + "".join(i.rjust(w) for i in ids) + "max regret".rjust(w))
+    tol = _tolerance_money(cmp)
+    line("  proven gap", [_gap_cell(cmp, j, tol) for j in ids] + [""])
+    marked = False
     for i in ids:
         cells = []
         for j in ids:
             if reg.breaks[i][j]:
                 cells.append("breaks" if reg.cost[i][j] is not None else "n/a")
             else:
-                cells.append(text_money(reg.regret[i][j]))
+                r = reg.regret[i][j]
+                within = r is not None and 0 < r <= tol.get(j, 0.0)
+                marked |= within
+                cells.append(text_money(r) + ("*" if within else ""))
         cells.append(text_money(reg.max_regret.get(i)))
         line(f"  {i}", cells)
+    if marked:
+        out.append("  * smaller than that scenario's proven gap (gap × least known cost): within solver "
+                   "tolerance, not a difference the assumptions make")
     for i in ids:
         for j in ids:
             msgs = reg.breaks[i][j]
