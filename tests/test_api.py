@@ -72,8 +72,9 @@ def test_types_frame_has_the_toml_field_names_and_curve_cells():
 def test_inventory_frame_counts_every_unit():
     case = tenure.load_case(DEMO)
     inv = case.inventory_frame()
-    # the demo inventory keeps a department column (cases/quillmere-fleet.csv), carried after the unit keys
-    assert list(inv.columns) == ["id", "type", "age", "count", "department"]
+    # the demo inventory has pickups' yearly usage and keeps a department column (cases/quillmere-fleet.csv)
+    assert list(inv.columns) == ["id", "type", "age", "count", "usage", "department"]
+    assert inv.set_index("id").loc["PU-G07", "usage"] == 12000
     assert inv["count"].sum() == case.unit_count == 78
     assert inv.set_index("id").loc["BU-D16", "department"] == "transit"
 

@@ -249,7 +249,8 @@ def test_infeasible_and_empty_plans_render(capped, tmp_path):
     page = documents.plan_html(empty, case)
     assert tuple(figures(page)) == UNCAPPED_CHARTS
     book = openpyxl.load_workbook(io.BytesIO(documents.plan_xlsx(empty, case)))
-    assert book.sheetnames == ["summary", "years", "units", "buy list", "policy", "assumptions"]
+    # "rules": the demo has a purchase target, emissions and nominal caps (issue 13)
+    assert book.sheetnames == ["summary", "years", "units", "buy list", "policy", "assumptions", "rules"]
     summary = {r[0]: r[1] for r in book["summary"].iter_rows(min_row=2, values_only=True) if r[0]}
     # no plan: the status and the shortfall are there, the cost cell is empty (not NaN), nothing was bought
     assert summary["status"] == "infeasible" and summary["present cost"] is None
