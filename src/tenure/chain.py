@@ -43,15 +43,11 @@ from __future__ import annotations
 
 import math
 from dataclasses import dataclass, field
-from typing import TYPE_CHECKING
 
 import numpy as np
 
 from . import curves, life, money, tax
 from .model import Case
-
-if TYPE_CHECKING:  # networkx loads only when the view is built (tests, benchmarks), not on every command
-    import networkx as nx
 
 KEEP = -1
 #: action of a unit sold without a replacement (a class shrinks or a committed disposal); its path ends
@@ -261,29 +257,12 @@ def build_class_graph(case: Case, class_: str) -> StageGraph:
     # rate they are deducted like O&M
     keep_cash, new_cash, sale_cash, book = om_keep + cp * tonnes_keep, om_new + cp * tonnes_new, value, None
     if s.tax_rate is not None:
-        keep_cash, new_cash, sale_cash, book = _after_tax_cash(case, types, keep_cash, new_cash, value, valid)
+        keep_cash, new_cash, sale_cash, book = tax.arc_cash(case, types, keep_cash, new_cash, value, valid)
     keep_pw = keep_cash * v[1:, None, None]
     buy_pw = np.where(buyable, price * v[:H, None] + new_cash * v[1:, None], np.inf)
     sale_pw = sale_cash * v[:, None, None]
 
-    chain_cost = chain_type = None
-    if s.end_value == "salvage":
-        end_pw = -sale_pw[H]
-    else:
-        # frozen at year y0+H; challengers are those buyable in the last planning year
-        y_end = y0 + H
-        best = None
-        for t in types:
-            if t.buyable(y_end - 1):
-                c, _ = life.capitalised_chain_cost(t, i, y0, y_end, tax_rate=s.tax_rate, carbon_price=s.carbon_price)
-                if best is None or c < best[0] - TIE * abs(c):
-                    best = (c, t.id)
-        chain_cost, chain_type = best
-        end_pw = np.full((T, A + 1), np.inf)
-        for j, t in enumerate(types):
-            a = np.arange(t.max_age + 1)
-            end_pw[j, : t.max_age + 1] = life.continuing_costs(t, a, y_end - a, chain_cost, i, y0, y_end,
-                                                               tax_rate=s.tax_rate, carbon_price=s.carbon_price) * v[H]
+    end_pw, chain_cost, chain_type = _end_costs(case, types, sale_pw, v, A)
     end_pw = np.where(valid, end_pw, np.inf)
     return StageGraph(class_=class_, types=tuple(t.id for t in types), max_age=max_age, start_year=y0, horizon=H,
                       rate=i, buyable=buyable, price=price, om_new=om_new, om_keep=om_keep, value=value,
@@ -293,37 +272,34 @@ def build_class_graph(case: Case, class_: str) -> StageGraph:
                       carbon_price=cp)
 
 
-def _after_tax_cash(case: Case, types, om_keep, om_new, value, valid):
-    """After-tax cash of every arc (docs/conventions.md, "Income tax"), undiscounted [money].
+def _end_costs(case: Case, types, sale_pw: np.ndarray, v: np.ndarray, A: int):
+    """End value of every state at time H (docs/conventions.md, "End of the horizon") [money, time 0].
 
-    Returns ``keep_cash (H, T, A+1)`` = (1−τ)·O&M − τ·d_(a+1)·B paid at k+1,
-    ``new_cash (H, T)`` = the same for service year 1 of a unit bought at k,
-    ``sale_cash (H+1, T, A+1)`` = MV − τ·(MV − BV_a) received at k, and the
-    book values ``book (H+1, T, A+1)``; the basis ``B`` is the type's price in
-    the vintage ``start_year + k − a``.
+    "salvage": minus the market value received at H.  "continuing": the capitalised cost of the
+    best endless chain of the challengers buyable in the last planning year, frozen at year
+    ``start_year + H``, after keeping each held unit as long as pays.  Returns
+    ``(end_pw (T, A+1), chain_cost, chain_type)``; the last two are None under "salvage".
     """
     s = case.study
-    tau, y0, H = s.tax_rate, s.start_year, s.horizon
-    ages = np.arange(valid.shape[1])
-    kk = np.arange(H + 1)
-    vint = (y0 + kk)[:, None] - ages[None, :]
-    keep = np.empty_like(om_keep)
-    sale = np.empty_like(value)
-    book = np.empty_like(value)
-    new = np.empty_like(om_new)
-    with np.errstate(invalid="ignore"):  # inf O&M marks arcs that do not exist; they stay inf
-        for j, t in enumerate(types):
-            keep[:, j] = tax.keep_cash(t, tau, om_keep[:, j], ages[None, :] + 1, vint[:H], y0)
-            new[:, j] = tax.keep_cash(t, tau, om_new[:, j], 1, y0 + kk[:H], y0)
-            book[:, j] = np.where(valid[j][None, :], tax.book_value(t, ages[None, :], vint, y0), 0.0)
-            sale[:, j] = value[:, j] - tax.tax_on_sale(value[:, j], book[:, j], tau)
-    keep = np.where(np.isfinite(om_keep), keep, np.inf)
-    return keep, new, sale, book
+    H, y0, i = s.horizon, s.start_year, s.discount_rate
+    if s.end_value == "salvage":
+        return -sale_pw[H], None, None
+    y_end = y0 + H
+    best = None
+    for t in types:
+        if t.buyable(y_end - 1):
+            c, _ = life.capitalised_chain_cost(t, i, y0, y_end, tax_rate=s.tax_rate, carbon_price=s.carbon_price)
+            if best is None or c < best[0] - TIE * abs(c):
+                best = (c, t.id)
+    chain_cost, chain_type = best
+    end_pw = np.full((len(types), A + 1), np.inf)
+    for j, t in enumerate(types):
+        a = np.arange(t.max_age + 1)
+        end_pw[j, : t.max_age + 1] = life.continuing_costs(t, a, y_end - a, chain_cost, i, y0, y_end,
+                                                           tax_rate=s.tax_rate, carbon_price=s.carbon_price) * v[H]
+    return end_pw, chain_cost, chain_type
 
 
-# ---------------------------------------------------------------------------
-# backward recursion
-# ---------------------------------------------------------------------------
 @dataclass(frozen=True)
 class ChainSolution:
     """Value function and optimal policy of one class (one result per recursion).
@@ -516,87 +492,4 @@ def path_cost(g: StageGraph, steps: list[Step]) -> float:
     return float(total + g.end_pw[t, a])
 
 
-def flexibility(sol: ChainSolution, steps: list[Step]) -> list[tuple[float | None, float | None]]:
-    """Extra present cost of doing each replacement on a path one year later and one year earlier.
-
-    For a replacement in year k from state (t, a): *defer* keeps one more year
-    and replaces in year k+1 with the best challenger then, the rest of the
-    chain re-optimised; *advance* replaces in year k−1 from (t, a−1) instead
-    of keeping.  None where the move is not possible (max age reached, the
-    year outside the horizon, or the unit bought the year before).  Costs are
-    measured against "replace as planned, then the best chain", so they also
-    apply to a path that is not optimal without caps (a capped plan's path).
-
-    Returns
-    -------
-    list of (defer_cost, advance_cost), one per replacement on the path [money, time-0 present worth].
-    """
-    g = sol.graph
-    H = g.horizon
-    out = []
-    for idx, st in enumerate(steps):
-        if st.action in (KEEP, OVERHAUL):
-            continue
-        if st.action == SELL or st.type == NEW:  # no defer/advance for a purchase or sale without its pair
-            out.append((None, None))
-            continue
-        k, t, a = st.k, st.type, st.age
-        # base: replace now, then the best chain (equals the value on an optimal path)
-        here = sol.replace_value[k, t, a]
-        defer = None
-        if k + 1 < H and a < g.max_age[t] and np.isfinite(g.keep_pw[k, t, a]):
-            later = g.keep_pw[k, t, a] + sol.replace_value[k + 1, t, a + 1]
-            if np.isfinite(later):
-                defer = max(0.0, float(later - here))
-        advance = None
-        if k >= 1 and idx >= 1 and steps[idx - 1].action == KEEP and a >= 1:
-            before = sol.replace_value[k - 1, t, a - 1]
-            kept = g.keep_pw[k - 1, t, a - 1] + here
-            if np.isfinite(before):
-                advance = max(0.0, float(before - kept))
-        out.append((defer, advance))
-    return out
-
-
-# ---------------------------------------------------------------------------
-# networkx view of the same graph
-# ---------------------------------------------------------------------------
-END = "end"
-
-
-def to_networkx(g: StageGraph, starts) -> nx.DiGraph:
-    """The state graph as a networkx DiGraph, reachable states only.
-
-    Nodes are ``(k, type_id, age)`` plus a sink ``"end"``; arcs carry
-    ``weight`` (present cost at time 0 [money]), ``outlay`` (purchase price
-    [money]), ``proceeds`` (market value received [money]) and ``action``
-    (``"keep"``, ``"replace"``, ``"overhaul"`` or ``"end"``).  Built from the same tables as the
-    recursion; on graphs with derived rows nodes are named by ``StageGraph.row_label``.
-    """
-    import networkx as nx
-
-    r = g.reachable(starts)
-    G = nx.DiGraph()
-    H = g.horizon
-    names = [g.row_label(t) for t in range(len(g.types))]
-    job = np.zeros(len(names), dtype=int) if g.job is None else g.job
-    for k in range(H):
-        ts, as_ = np.nonzero(r[k])
-        buy_types = np.flatnonzero(g.buyable[k])
-        for t, a in zip(ts.tolist(), as_.tolist()):
-            u = (k, names[t], a)
-            if a < g.max_age[t]:
-                G.add_edge(u, (k + 1, names[t], a + 1), weight=float(g.keep_pw[k, t, a]), outlay=0.0,
-                           proceeds=0.0, action="keep")
-            if g.overhaul_to is not None and g.overhaul_to[t, a] >= 0:
-                G.add_edge(u, (k + 1, names[g.overhaul_to[t, a]], a + 1), weight=float(g.overhaul_pw[k, t, a]),
-                           outlay=float(g.overhaul_cost[k, t, a]), proceeds=0.0, action="overhaul")
-            sellable = g.sellable is None or bool(g.sellable[t, a])
-            for t2 in (buy_types[job[buy_types] == job[t]].tolist() if sellable else []):
-                G.add_edge(u, (k + 1, names[t2], 1), weight=float(g.buy_pw[k, t2] - g.sale_pw[k, t, a]),
-                           outlay=float(g.price[k, t2]), proceeds=float(g.value[k, t, a]), action="replace")
-    ts, as_ = np.nonzero(r[H])
-    for t, a in zip(ts.tolist(), as_.tolist()):
-        G.add_edge((H, names[t], a), END, weight=float(g.end_pw[t, a]), outlay=0.0,
-                   proceeds=float(g.value[H, t, a]) if g.end_value == "salvage" else 0.0, action="end")
-    return G
+# the networkx view of the same tables lives in tenure.chain_view (re-exported here)

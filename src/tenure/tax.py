@@ -158,3 +158,36 @@ def sale_tax_pw(t: AssetType, tax_rate: float, market_value, age, vintage, start
     """Present worth of the tax on a sale [money], ``discount`` the factor of the sale time."""
     bv = book_value(t, age, vintage, start_year)
     return np.asarray(tax_on_sale(market_value, bv, tax_rate)) * np.asarray(discount)
+
+
+def arc_cash(case: Case, types, om_keep, om_new, value, valid):
+    """After-tax cash of every arc (docs/conventions.md, "Income tax"), undiscounted [money].
+
+    Returns ``keep_cash (H, T, A+1)`` = (1−τ)·O&M − τ·d_(a+1)·B paid at k+1,
+    ``new_cash (H, T)`` = the same for service year 1 of a unit bought at k,
+    ``sale_cash (H+1, T, A+1)`` = MV − τ·(MV − BV_a) received at k, and the
+    book values ``book (H+1, T, A+1)``; the basis ``B`` is the type's price in
+    the vintage ``start_year + k − a``.
+    """
+    s = case.study
+    tau, y0, H = s.tax_rate, s.start_year, s.horizon
+    ages = np.arange(valid.shape[1])
+    kk = np.arange(H + 1)
+    vint = (y0 + kk)[:, None] - ages[None, :]
+    keep = np.empty_like(om_keep)
+    sale = np.empty_like(value)
+    book = np.empty_like(value)
+    new = np.empty_like(om_new)
+    with np.errstate(invalid="ignore"):  # inf O&M marks arcs that do not exist; they stay inf
+        for j, t in enumerate(types):
+            keep[:, j] = keep_cash(t, tau, om_keep[:, j], ages[None, :] + 1, vint[:H], y0)
+            new[:, j] = keep_cash(t, tau, om_new[:, j], 1, y0 + kk[:H], y0)
+            book[:, j] = np.where(valid[j][None, :], book_value(t, ages[None, :], vint, y0), 0.0)
+            sale[:, j] = value[:, j] - tax_on_sale(value[:, j], book[:, j], tau)
+    keep = np.where(np.isfinite(om_keep), keep, np.inf)
+    return keep, new, sale, book
+
+
+# ---------------------------------------------------------------------------
+# backward recursion
+# ---------------------------------------------------------------------------

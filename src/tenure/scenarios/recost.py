@@ -63,6 +63,59 @@ def _chain_costs(case: Case) -> dict[str, float]:
     return out
 
 
+class _UnknownType(Exception):
+    """The plan buys a type the scenario does not have."""
+
+
+def _unit_cost(case: Case, row, events, v: np.ndarray, grids: dict, chain_costs: dict, books) -> float:
+    """Present cost [money, time 0] of one unit's fixed schedule under ``case``; adds its capital,
+    proceeds and purchases by year and the rules it breaks to ``books``."""
+    s = case.study
+    y0, H, cp = s.start_year, s.horizon, s.carbon_price  # priced tonnes are paid with the O&M
+    capital, proceeds, buys, broken = books
+    types = {t.id: t for t in case.types}
+    t, a = types[row.type], row.age
+    cls = t.class_
+    # usage and overhaul: docs/conventions.md ("Usage", "Overhaul"), the rules of tenure.derived
+    u, oh, ov = derived.job_usage(case, row, grids[cls]), None, None
+    ev = {e["year"]: e["type"] for e in events if e.get("action") != "overhaul"}
+    ovh = {e["year"] for e in events if e.get("action") == "overhaul"}
+    total = 0.0
+    for k in range(H):
+        y = y0 + k
+        if y in ovh:
+            ov = _overhaul_of(t, a, oh, y, broken)
+            total += v[k] * ov.cost + v[k + 1] * (curves.om(t, ov.om_age_after + 1, y - a, y0)
+                                                  + cp * curves.tonnes(t, y - a, y0)) * derived.ratio(t, u)
+            capital[k] += ov.cost
+            oh, a = a, a + 1
+        elif y in ev:
+            new = types.get(ev[y])
+            if new is None:
+                raise _UnknownType(f"{y}: the plan buys type {ev[y]!r}, unknown in the scenario")
+            if new.class_ != cls:
+                broken[f"{y}: buys {new.id} (class {new.class_}) for a {cls} unit"] += 1
+            if not new.buyable(y):
+                broken[f"{y}: buys {new.id}, which can be bought only {_window(new)}"] += 1
+            p = curves.price(new, y, y0)
+            mv = float(derived.value_at(t, a, y, y0, derived.ratio(t, u)))
+            total += v[k] * (p - mv) + v[k + 1] * (curves.om(new, 1, y, y0)
+                                                   + cp * curves.tonnes(new, y, y0)) * derived.ratio(new, u)
+            capital[k] += p
+            proceeds[k] += mv
+            buys[k][new.class_] += 1
+            t, a, oh = new, 1, None
+        else:
+            top = derived.row_max_age(t, u, oh is not None)
+            if a >= top:
+                broken[f"{y}: keeps a {t.id} at age {a}, its max age is {top}"] += 1
+            served = a + 1 if oh is None else ov.om_age_after + a + 1 - oh
+            total += v[k + 1] * (curves.om(t, served, y - a, y0) + cp * curves.tonnes(t, y - a, y0)) \
+                * derived.ratio(t, u)
+            a += 1
+    return total + v[H] * _end_cost(case, t, a, oh, u, chain_costs.get(t.class_))
+
+
 def recost(plan_dict: Mapping, case: Case) -> Recost:
     """Present cost of a plan's schedule under ``case``, and the rules it breaks there.
 
@@ -80,12 +133,10 @@ def recost(plan_dict: Mapping, case: Case) -> Recost:
     """
     s = case.study
     y0, H, rate = s.start_year, s.horizon, s.discount_rate
-    cp = s.carbon_price  # priced tonnes are paid with the O&M (docs/conventions.md)
     years = [y["year"] for y in plan_dict.get("years", [])]
     if years != list(s.years):
         return Recost(None, (f"the plan covers {years[0] if years else '?'}–{years[-1] if years else '?'}, "
                              f"the scenario {y0}–{y0 + H - 1}",))
-    rows = {u.id: u for u in case.units}
     names = [n for u in case.units for n in u.names()]
     plan_units = plan_dict.get("units", [])
     plan_names = [u["unit"] for u in plan_units]
@@ -95,55 +146,20 @@ def recost(plan_dict: Mapping, case: Case) -> Recost:
         return Recost(None, ("the plan's units differ from the scenario's inventory"
                              + (f"; not in the scenario: {', '.join(extra[:5])}" if extra else "")
                              + (f"; not in the plan: {', '.join(missing[:5])}" if missing else ""),))
-    types = {t.id: t for t in case.types}
     v = (1.0 + rate) ** -np.arange(H + 1, dtype=float)
-    capital = np.zeros(H)
-    proceeds = np.zeros(H)
+    capital, proceeds = np.zeros(H), np.zeros(H)
     buys: list[Counter] = [Counter() for _ in range(H)]
+    books = (capital, proceeds, buys, Counter())  # the last: broken rule message -> units
     chain_costs = _chain_costs(case) if s.end_value == "continuing" else {}
-    broken: Counter = Counter()  # message -> units
-    total = 0.0
     grids = {c: derived.usage_grid(case, c) for c in case.classes}
-    for pu in plan_units:
-        row = rows[pu["unit"].rsplit("#", 1)[0]]
-        t, a = types[row.type], row.age
-        cls = t.class_
-        # usage and overhaul: docs/conventions.md ("Usage", "Overhaul"), the rules of tenure.derived
-        u, oh, ov = derived.job_usage(case, row, grids[cls]), None, None
-        ev = {e["year"]: e["type"] for e in pu["events"]}
-        ovh = {e["year"] for e in pu["events"] if e.get("action") == "overhaul"}
-        for k in range(H):
-            y = y0 + k
-            if y in ovh:
-                ov = _overhaul_of(t, a, oh, y, broken)
-                total += v[k] * ov.cost + v[k + 1] * curves.om(t, ov.om_age_after + 1, y - a, y0) * derived.ratio(t, u)
-                capital[k] += ov.cost
-                oh, a = a, a + 1
-            elif y in ev:
-                new = types.get(ev[y])
-                if new is None:
-                    return Recost(None, (f"{y}: the plan buys type {ev[y]!r}, unknown in the scenario",))
-                if new.class_ != cls:
-                    broken[f"{y}: buys {new.id} (class {new.class_}) for a {cls} unit"] += 1
-                if not new.buyable(y):
-                    broken[f"{y}: buys {new.id}, which can be bought only {_window(new)}"] += 1
-                p = curves.price(new, y, y0)
-                mv = float(derived.value_at(t, a, y, y0, derived.ratio(t, u)))
-                total += v[k] * (p - mv) + v[k + 1] * (curves.om(new, 1, y, y0) * derived.ratio(new, u)
-                                                     + cp * curves.tonnes(new, y, y0) * derived.ratio(new, u))
-                capital[k] += p
-                proceeds[k] += mv
-                buys[k][new.class_] += 1
-                t, a, oh = new, 1, None
-            else:
-                top = derived.row_max_age(t, u, oh is not None)
-                if a >= top:
-                    broken[f"{y}: keeps a {t.id} at age {a}, its max age is {top}"] += 1
-                served = a + 1 if oh is None else ov.om_age_after + a + 1 - oh
-                total += v[k + 1] * (curves.om(t, served, y - a, y0) + cp * curves.tonnes(t, y - a, y0)) \
-                    * derived.ratio(t, u)
-                a += 1
-        total += v[H] * _end_cost(case, t, a, oh, u, chain_costs.get(t.class_))
+    row_of = {n: u for u in case.units for n in u.names()}
+    total = 0.0
+    try:
+        for pu in plan_units:
+            total += _unit_cost(case, row_of[pu["unit"]], pu["events"], v, grids, chain_costs, books)
+    except _UnknownType as exc:
+        return Recost(None, (str(exc),))
+    broken = books[3]
     _budget_breaks(case, capital, proceeds, buys, broken)
     msgs = tuple(m if n == 1 or "cap" in m or "limit" in m else f"{m} ({n} units)"
                  for m, n in sorted(broken.items(), key=lambda kv: kv[0][:4]))
