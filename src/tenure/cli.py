@@ -1,4 +1,4 @@
-"""Command line: ``tenure check | life | plan | policy | compare | sweep``.
+"""Command line: ``tenure check | life | plan | policy | compare | sweep | hedge``.
 
 Exit codes: 0 done; 2 bad input (every problem printed, no traceback);
 3 no plan fits the caps (the shortfall is printed and written).
@@ -224,6 +224,32 @@ def cmd_sweep(args) -> int:
     return 0
 
 
+def cmd_hedge(args) -> int:
+    from . import scenarios as sc
+    from .hedge import hedge
+    from .parallel import ClusterError
+    from .report import hedge as report_hedge
+
+    case = _case(args.case)
+    if not args.out:
+        raise UsageError("--out DIR is required: the folder for hedge.json, hedge.csv and report.html")
+    wanted = [w.strip() for item in (args.scenario or []) for w in item.split(",") if w.strip()]
+    try:
+        options = run_options(args.solver, args.time_limit, args.gap, args.workers)
+        chosen = sc.select_scenarios(case, wanted)
+        h = hedge(case, chosen, commit_years=args.commit_years, objective=args.objective, method=args.method,
+                  options=options, workers=args.workers, cluster=args.cluster)
+    except ValueError as exc:
+        raise UsageError(str(exc)) from None
+    except ClusterError as exc:
+        raise UsageError(f"--cluster {args.cluster}: {exc}") from None
+    print(report_hedge.hedge_text(h))
+    paths = report_hedge.write_hedge(h, case, args.out)
+    print(f"\nwritten to {args.out}/: " + ", ".join(Path(p).name for p in paths))
+    print(text.CAUTION)
+    return 0
+
+
 # ---------------------------------------------------------------------------
 def build_parser() -> argparse.ArgumentParser:
     p = argparse.ArgumentParser(prog="tenure", description="Fleet and asset renewal planning: economic life, "
@@ -287,6 +313,18 @@ def build_parser() -> argparse.ArgumentParser:
     c.add_argument("--scenarios", metavar="FILE", help="TOML file of extra [[uncertain]] blocks")
     solve_options(c)
     c.set_defaults(func=cmd_sweep)
+
+    c = sub.add_parser("hedge", help="one commitment of the first years, best across the scenarios re-planned later")
+    c.add_argument("case")
+    c.add_argument("--commit-years", type=int, required=True, metavar="N", help="planning years committed now")
+    c.add_argument("--objective", choices=("expected", "regret"), default="expected",
+                   help="least expected present cost, or least largest regret (expected)")
+    c.add_argument("--method", choices=("auto", "extensive", "lagrangian"), default="auto",
+                   help="extensive form, Lagrangian decomposition, or chosen by size (auto)")
+    c.add_argument("--scenario", action="append", metavar="ID",
+                   help="scenario id to hedge over besides the base case (repeat, or a,b; default: every scenario)")
+    solve_options(c)
+    c.set_defaults(func=cmd_hedge)
     return p
 
 
