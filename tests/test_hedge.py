@@ -270,3 +270,31 @@ def test_same_result_on_every_back_end():
     runs = [hedge(case, list(case.scenarios), commit_years=2, method="lagrangian", options=EXACT, max_iter=3,
                   workers=w, cluster=c).to_dict() for w, c in ((1, None), (2, None), (2, "local"))]
     assert runs[0] == runs[1] == runs[2]
+
+
+def test_compare_commit_regret(tmp_path):
+    from tenure.report.compare import compare_csv, compare_text
+    from tenure.scenarios import compare
+
+    case = build_case(small_doc())
+    cmp = compare(case, list(case.scenarios), options=EXACT, commit_years=1)
+    reg = cmp.commit_regret
+    _, cases = scenario_cases(small_doc())
+    table, own = enumerate_commitments(cases, 1)
+    # the diagonal: a scenario's own first year re-planned under itself is its own optimum (regret 0)
+    for sid in cmp.ids:
+        assert reg.regret[sid][sid] == pytest.approx(0.0, abs=0.01)
+    # each cell is the enumeration's least cost of that plan's first-year actions under the column's scenario
+    checked = 0
+    for i in cmp.ids:
+        acts = cmp.scenario(i).first_year_actions
+        key = tuple((acts[f"{u.id}#1"].split(":", 1)[-1] if acts[f"{u.id}#1"] != "keep" else "keep",)
+                    for u in case.units)
+        for j, o in zip(cmp.ids, own):
+            if key in table:
+                assert reg.cost[i][j] == pytest.approx(table[key][cmp.ids.index(j)], abs=0.01)
+                assert reg.best_under[j] == pytest.approx(o, abs=0.01)
+                checked += 1
+    assert checked >= 6
+    assert "commit_regret" in cmp.to_dict() and "max_regret_commit_1" in compare_csv(cmp)
+    assert "then re-planning" in compare_text(cmp)

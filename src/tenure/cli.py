@@ -176,9 +176,12 @@ def cmd_compare(args) -> int:
     if not chosen:
         raise UsageError(f"nothing to compare: {case.source} has no [[scenario]] blocks (add some or give "
                          "--scenarios FILE)" if not wanted else "nothing to compare: name a scenario other than base")
+    if args.commit_years is not None and not (1 <= args.commit_years <= case.study.horizon):
+        raise UsageError(f"--commit-years {args.commit_years}: must be a whole number in "
+                         f"[1, {case.study.horizon}] (the horizon)")
     try:
         doc = sc.compare(case, chosen, options=options, workers=args.workers, cluster=args.cluster,
-                         progress=not args.quiet)
+                         progress=not args.quiet, commit_years=args.commit_years)
     except ClusterError as exc:
         raise UsageError(f"--cluster {args.cluster}: {exc}") from None
     print(report_compare.compare_text(doc))
@@ -301,6 +304,8 @@ def build_parser() -> argparse.ArgumentParser:
     c.add_argument("--scenario", action="append", metavar="ID",
                    help="scenario id to compare (repeat, or a,b; default: every scenario)")
     c.add_argument("--scenarios", metavar="FILE", help="TOML file of extra [[scenario]] blocks")
+    c.add_argument("--commit-years", type=int, metavar="N",
+                   help="also the regret of committing each plan's first N years, then re-planning")
     solve_options(c)
     c.set_defaults(func=cmd_compare)
 
