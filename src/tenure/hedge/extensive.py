@@ -162,7 +162,9 @@ def solve_extensive(ext: Extensive, stages: Sequence[Stage], *, solver: str = "h
     obj = float(ext.program.cost @ x) if ext.epigraph < 0 else float(res.x[ext.epigraph])
     bound = min(float(res.bound) if res.bound is not None else obj, obj)
     xs = tuple(x[o:o + p.n_cols] for o, p in zip(ext.offsets, ext.progs))
-    g = 0.0 if res.status == "optimal" and obj - bound <= 1e-9 * max(abs(obj), 1) else (obj - bound) / max(abs(obj), 1e-9)
+    g = (obj - bound) / max(abs(obj), 1e-9)
+    if res.status == "optimal" and obj - bound <= 1e-9 * max(abs(obj), 1):
+        g = 0.0
     return ExtensiveSolution(xs, obj, bound, float(max(g, 0.0)), res.status)
 
 

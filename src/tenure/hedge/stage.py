@@ -13,7 +13,7 @@ in this process, in worker processes or on a Dask cluster (:func:`tenure.paralle
 
 from __future__ import annotations
 
-from dataclasses import dataclass
+from dataclasses import dataclass, replace
 from typing import Any, Mapping, Sequence
 
 import numpy as np
@@ -162,8 +162,6 @@ def replan_task(task: Mapping) -> dict:
     for key, c in task["extra_cost"]:
         if tuple(key) in keys:
             cost[keys[tuple(key)]] += c
-    from dataclasses import replace
-
     mod = replace(prog, lower=lower, upper=upper, cost=cost)
     opts = task["options"]
     res = get_backend(opts["solver"])(mod).solve_mip(opts["time_limit"], opts["gap"])
