@@ -47,12 +47,12 @@ def scenario_doc(units: int) -> dict:
     return doc
 
 
-def run(units: int, method: str, time_limit: float, gap: float) -> dict:
+def run(units: int, method: str, time_limit: float, gap: float, max_iter: int) -> dict:
     case = build_case(scenario_doc(units))
     cols = sum(build_program(st.case).n_cols for st in stages(case, list(case.scenarios)))
     t0 = time.perf_counter()
     h = hedge(case, list(case.scenarios), commit_years=2, method=method,
-              options={"time_limit": time_limit, "gap": gap}, max_iter=20)
+              options={"time_limit": time_limit, "gap": gap}, max_iter=max_iter)
     return {"units": units, "method": h.method, "columns": cols, "seconds": time.perf_counter() - t0,
             "gap": h.gap, "expected": h.expected_cost, "evpi": h.evpi, "vss": h.vss, "buys": len(h.buys)}
 
@@ -62,19 +62,21 @@ def main(argv=None) -> int:
     ap.add_argument("--sizes", default="200,1000")
     ap.add_argument("--time-limit", type=float, default=300.0, help="seconds per solve (300)")
     ap.add_argument("--gap", type=float, default=0.005)
+    ap.add_argument("--methods", default="extensive,lagrangian")
+    ap.add_argument("--max-iter", type=int, default=20, help="Lagrangian iterations at most (20)")
     ap.add_argument("--no-write", action="store_true")
     ap.add_argument("--out", default=str(REPO / "docs" / "benchmarks-hedge.md"))
     args = ap.parse_args(argv)
     rows = []
     for n in [int(s) for s in args.sizes.split(",")]:
-        for method in ("extensive", "lagrangian"):
+        for method in args.methods.split(","):
             print(f"== {n} units, {method}", file=sys.stderr, flush=True)
-            rows.append(run(n, method, args.time_limit, args.gap))
+            rows.append(run(n, method, args.time_limit, args.gap, args.max_iter))
             print(f"   {rows[-1]}", file=sys.stderr, flush=True)
     cores = len(os.sched_getaffinity(0))
     head = (f"Machine: {cpu_model()}, {cores} cores (shared with other jobs); {_dt.date.today().isoformat()}; "
-            f"`python benchmarks/bench_hedge.py --sizes {args.sizes} --time-limit {args.time_limit:g} "
-            f"--gap {args.gap:g}`\n\n")
+            f"`python benchmarks/bench_hedge.py --sizes {args.sizes} --methods {args.methods} "
+            f"--time-limit {args.time_limit:g} --gap {args.gap:g} --max-iter {args.max_iter}`\n\n")
     table = ("| units | method | stacked columns | seconds | gap | expected cost | EVPI | VSS | buys committed |\n"
              "| ---: | --- | ---: | ---: | ---: | ---: | ---: | ---: | ---: |\n")
     for r in rows:

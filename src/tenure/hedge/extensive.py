@@ -141,8 +141,11 @@ class ExtensiveSolution:
 
 
 def solve_extensive(ext: Extensive, stages: Sequence[Stage], *, solver: str = "highs", time_limit: float = 120.0,
-                    gap: float = 0.005) -> ExtensiveSolution:
+                    gap: float = 0.005, start: np.ndarray | None = None) -> ExtensiveSolution:
     """Solve the stacked program as an integer program through the back-end interface.
+
+    ``start``: a feasible stacked point to begin from (e.g. the base plan's first years re-planned in
+    every scenario), so that a time limit still leaves a commitment and a proven gap.
 
     Raises
     ------
@@ -152,7 +155,7 @@ def solve_extensive(ext: Extensive, stages: Sequence[Stage], *, solver: str = "h
     NoPlanFound
         When the solver found no point in ``time_limit`` [s] and proved nothing.
     """
-    res = get_backend(solver)(ext.program).solve_mip(time_limit, gap)
+    res = get_backend(solver)(ext.program).solve_mip(time_limit, gap, start)
     if res.x is None:
         if res.status == "infeasible":
             raise NoCommonCommitment(blocking(ext.progs, stages, ext.years, solver))

@@ -66,9 +66,13 @@ def hedge(case: Case, scenarios: Sequence[Scenario], *, commit_years: int, objec
     if method == "auto":
         method = "extensive" if size <= EXTENSIVE_COLUMNS or objective == "regret" else "lagrangian"
     notes = []
+    # the base plan's first years re-planned in every scenario: the VSS, and a start for the extensive form
+    base_res = run_tasks(replan_task, [make_replan_task(st, case, commit_years, opts, fixed=seed,
+                                                        keep_x=method == "extensive") for st in sts],
+                         workers=workers, cluster=cluster)
     if method == "extensive":
         ext = build_extensive(sts, commit_years, objective, own=own_cost, progs=progs)
-        sol = solve_extensive(ext, sts, **opts)
+        sol = solve_extensive(ext, sts, **opts, start=_start(ext, base_res, own_cost, sts))
         commit = {k: int(sol.xs[0][j]) for k, j in keys[0].items() if sol.xs[0][j] > 0.5}
         joint = [float(p.cost @ x) for p, x in zip(progs, sol.xs)]
         gap, bound, label = sol.gap, sol.bound, f"extensive form ({size:,} columns, {len(sts)} scenarios)"
@@ -80,8 +84,19 @@ def hedge(case: Case, scenarios: Sequence[Scenario], *, commit_years: int, objec
         commit, joint = dec.commitment, [np.inf] * len(sts)
         gap, bound = dec.gap, dec.lower_bound
         label = f"Lagrangian decomposition ({dec.iterations} iterations, {len(sts)} scenarios)"
-    return _assemble(case, sts, progs, commit, seed, own, own_cost, joint, opts, objective, method, label, gap,
+    return _assemble(case, sts, progs, commit, base_res, own, own_cost, joint, opts, objective, method, label, gap,
                      bound, commit_years, workers, cluster, notes)
+
+
+def _start(ext, base_res, own_cost, sts):
+    """The stacked point of the base plan's first years re-planned in every scenario (None if one cannot)."""
+    if any("x" not in r for r in base_res):
+        return None
+    x = np.concatenate([np.asarray(r["x"], dtype=float) for r in base_res])
+    if ext.epigraph >= 0:
+        R = sum(st.probability * o for st, o in zip(sts, own_cost))
+        x = np.append(x, max(r["cost"] - o for r, o in zip(base_res, own_cost)) + R)
+    return x
 
 
 def _check(sts: Sequence[Stage], n: int, objective: str, method: str) -> None:
@@ -102,13 +117,12 @@ def _check(sts: Sequence[Stage], n: int, objective: str, method: str) -> None:
                              f"({s.start_year}+{s.horizon} against {s0.start_year}+{s0.horizon})")
 
 
-def _assemble(case, sts, progs, commit, seed, own, own_cost, joint, opts, objective, method, label, gap, bound,
+def _assemble(case, sts, progs, commit, base_res, own, own_cost, joint, opts, objective, method, label, gap, bound,
               n, workers, cluster, notes) -> Hedge:
     """Re-plan every scenario from the commitment and from the base plan's first years; the Hedge."""
     S = len(sts)
     tasks = [make_replan_task(st, case, n, opts, fixed=commit, keep_x=(s == 0)) for s, st in enumerate(sts)]
-    tasks += [make_replan_task(st, case, n, opts, fixed=seed) for st in sts]
-    res = run_tasks(replan_task, tasks, workers=workers, cluster=cluster)
+    res = run_tasks(replan_task, tasks, workers=workers, cluster=cluster) + list(base_res)
     rows, costs = [], []
     for s, st in enumerate(sts):
         r = res[s]
