@@ -155,7 +155,13 @@ def solve_extensive(ext: Extensive, stages: Sequence[Stage], *, solver: str = "h
     NoPlanFound
         When the solver found no point in ``time_limit`` [s] and proved nothing.
     """
-    res = get_backend(solver)(ext.program).solve_mip(time_limit, gap, start)
+    be = get_backend(solver)(ext.program)
+    res = be.solve_mip(time_limit, gap, start)
+    if res.x is None and start is not None and res.status != "infeasible":
+        # the solver kept no point within the time limit: keep the start, bounded by the LP relaxation
+        lp = be.solve_lp()
+        lp_bound = -INF if lp.x is None else float(lp.x[ext.epigraph] if ext.epigraph >= 0 else ext.program.cost @ lp.x)
+        res = type(res)("feasible", np.asarray(start, dtype=float), lp_bound)
     if res.x is None:
         if res.status == "infeasible":
             raise NoCommonCommitment(blocking(ext.progs, stages, ext.years, solver))

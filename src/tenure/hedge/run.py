@@ -30,7 +30,7 @@ OBJECTIVES = ("expected", "regret")
 METHODS = ("auto", "extensive", "lagrangian")
 #: the largest stacked program (columns) the "auto" method gives to the extensive form; measured
 #: in docs/benchmarks-hedge.md
-EXTENSIVE_COLUMNS = 150_000
+EXTENSIVE_COLUMNS = 20_000
 
 
 def hedge(case: Case, scenarios: Sequence[Scenario], *, commit_years: int, objective: str = "expected",
