@@ -160,7 +160,9 @@ def solve_extensive(ext: Extensive, stages: Sequence[Stage], *, solver: str = "h
     if res.x is None and start is not None and res.status != "infeasible":
         # the solver kept no point within the time limit: keep the start, bounded by the LP relaxation
         lp = be.solve_lp()
-        lp_bound = -INF if lp.x is None else float(lp.x[ext.epigraph] if ext.epigraph >= 0 else ext.program.cost @ lp.x)
+        lp_bound = -INF
+        if lp.x is not None:
+            lp_bound = float(lp.x[ext.epigraph] if ext.epigraph >= 0 else ext.program.cost @ lp.x)
         res = type(res)("feasible", np.asarray(start, dtype=float), lp_bound)
     if res.x is None:
         if res.status == "infeasible":
