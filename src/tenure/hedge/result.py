@@ -18,6 +18,7 @@ Programming*, 2nd ed., §4.1–4.2):
 
 from __future__ import annotations
 
+import math
 from dataclasses import dataclass, field
 from typing import Mapping
 
@@ -99,7 +100,8 @@ class Hedge:
         """The ``hedge.json`` document (exactly :data:`HEDGE_KEYS`)."""
         return {"commitment": [c.to_dict() for c in self.commitment],
                 "scenarios": [s.to_dict() for s in self.scenarios], "expected_cost": _r(self.expected_cost),
-                "max_regret": _r(self.max_regret), "evpi": _r(self.evpi), "vss": _r(self.vss), "gap": self.gap,
+                "max_regret": _r(self.max_regret), "evpi": _r(self.evpi), "vss": _r(self.vss),
+                "gap": self.gap if math.isfinite(self.gap) else None,
                 "objective": self.objective, "commit_years": self.commit_years}
 
     def commitment_frame(self):
