@@ -1,4 +1,4 @@
-"""Command line: ``tenure check | life | fit | plan | policy | compare | sweep``.
+"""Command line: ``tenure check | life | fit | plan | policy | compare | sweep | hedge``.
 
 Exit codes: 0 done; 2 bad input or an output that cannot be written (every problem printed, no traceback);
 3 no plan fits the caps (the shortfall is printed and written); 130 / 143 interrupted by SIGINT / SIGTERM
@@ -46,6 +46,8 @@ EXIT_INFEASIBLE = 3
 PLAN_NAMES = ("plan.json", "units.csv", "years.csv", "buy-list.csv", "report.html", "plan.xlsx")
 COMPARE_NAMES = ("compare.json", "compare.csv", "report.html")
 SWEEP_NAMES = ("sweep.json", "sweep.csv", "sensitivity.csv")
+HEDGE_NAMES = ("hedge.json", "hedge.csv", "report.html")
+FIT_NAMES = ("fitted.toml", "fit.json", "fit.html")
 
 
 class UsageError(Exception):
@@ -214,6 +216,7 @@ def cmd_fit(args) -> int:
 
     from .fit import fit_case, price_level, writers
 
+    output = _output(args.out, "fit", FIT_NAMES)
     case = _case(args.case)
     if args.index and args.inflation is not None:
         raise UsageError("give either --index FILE or --inflation R, not both")
@@ -233,10 +236,10 @@ def cmd_fit(args) -> int:
     stamp = _dt.datetime.now(_dt.timezone.utc).strftime("%Y-%m-%d %H:%M UTC")
     files = {"fitted.toml": toml.encode(), "fit.json": writers.fit_json(result).encode(),
              "fit.html": writers.fit_html(result, case, stamp).encode()}
-    try:
-        writers.write_set(out, files)
-    except FileExistsError as exc:
-        raise UsageError(f"--out {args.out}: {exc}") from None
+    with output as tx:
+        for name, data in files.items():
+            (tx.staging / name).write_bytes(data)
+        _commit(tx, {"case": case.source})
     print(writers.summary(result, str(out), list(files)))
     return 0
 
@@ -375,10 +378,13 @@ def cmd_compare(args) -> int:
     if not chosen:
         raise UsageError(f"nothing to compare: {case.source} has no [[scenario]] blocks (add some or give "
                          "--scenarios FILE)" if not wanted else "nothing to compare: name a scenario other than base")
+    if args.commit_years is not None and not (1 <= args.commit_years <= case.study.horizon):
+        raise UsageError(f"--commit-years {args.commit_years}: must be a whole number in "
+                         f"[1, {case.study.horizon}] (the horizon)")
     with output as tx:
         try:
             doc = run_interruptible(sc.compare, case, chosen, options=options, workers=args.workers,
-                                    cluster=args.cluster, progress=not args.quiet)
+                                    cluster=args.cluster, progress=not args.quiet, commit_years=args.commit_years)
         except ClusterError as exc:
             raise UsageError(f"--cluster {args.cluster}: {exc}") from None
         if tx is not None:
@@ -429,6 +435,37 @@ def cmd_sweep(args) -> int:
     print(report_sweep.sweep_text(doc))
     if tx is not None:
         print(f"\nwritten to {args.out}/: " + ", ".join(p.name for p in paths) + f" (run id {tx.run_id})")
+    print(text.CAUTION)
+    return 0
+
+
+def cmd_hedge(args) -> int:
+    from . import scenarios as sc
+    from .hedge import hedge
+    from .parallel import ClusterError
+    from .report import hedge as report_hedge
+
+    _seconds(args.time_limit)
+    _cluster(args.cluster)
+    if not args.out:
+        raise UsageError("--out DIR is required: the folder for hedge.json, hedge.csv and report.html")
+    output = _output(args.out, "hedge", HEDGE_NAMES)
+    case = _case(args.case)
+    wanted = [w.strip() for item in (args.scenario or []) for w in item.split(",") if w.strip()]
+    with output as tx:
+        try:
+            options = run_options(args.solver, args.time_limit, args.gap, args.workers)
+            chosen = sc.select_scenarios(case, wanted)
+            h = run_interruptible(hedge, case, chosen, commit_years=args.commit_years, objective=args.objective,
+                                  method=args.method, options=options, workers=args.workers, cluster=args.cluster)
+        except ValueError as exc:
+            raise UsageError(str(exc)) from None
+        except ClusterError as exc:
+            raise UsageError(f"--cluster {args.cluster}: {exc}") from None
+        report_hedge.write_hedge(h, case, tx.staging, run_id=tx.run_id)
+        paths = _commit(tx, {"case": case.source})
+    print(report_hedge.hedge_text(h))
+    print(f"\nwritten to {args.out}/: " + ", ".join(p.name for p in paths) + f" (run id {tx.run_id})")
     print(text.CAUTION)
     return 0
 
@@ -507,6 +544,8 @@ def build_parser() -> argparse.ArgumentParser:
     c.add_argument("--scenario", action="append", metavar="ID",
                    help="scenario id to compare (repeat, or a,b; default: every scenario)")
     c.add_argument("--scenarios", metavar="FILE", help="TOML file of extra [[scenario]] blocks")
+    c.add_argument("--commit-years", type=int, metavar="N",
+                   help="also the regret of committing each plan's first N years, then re-planning")
     solve_options(c)
     c.set_defaults(func=cmd_compare)
 
@@ -519,6 +558,18 @@ def build_parser() -> argparse.ArgumentParser:
     c.add_argument("--scenarios", metavar="FILE", help="TOML file of extra [[uncertain]] blocks")
     solve_options(c)
     c.set_defaults(func=cmd_sweep)
+
+    c = sub.add_parser("hedge", help="one commitment of the first years, best across the scenarios re-planned later")
+    c.add_argument("case")
+    c.add_argument("--commit-years", type=int, required=True, metavar="N", help="planning years committed now")
+    c.add_argument("--objective", choices=("expected", "regret"), default="expected",
+                   help="least expected present cost, or least largest regret (expected)")
+    c.add_argument("--method", choices=("auto", "extensive", "lagrangian"), default="auto",
+                   help="extensive form, Lagrangian decomposition, or chosen by size (auto)")
+    c.add_argument("--scenario", action="append", metavar="ID",
+                   help="scenario id to hedge over besides the base case (repeat, or a,b; default: every scenario)")
+    solve_options(c)
+    c.set_defaults(func=cmd_hedge)
     return p
 
 

@@ -355,6 +355,8 @@ class Scenario:
     id: str
     note: str
     set: Mapping[str, Any]
+    #: chance that this scenario comes true [fraction]; None when the case file gives none
+    probability: float | None = None
 
 
 @dataclass(frozen=True)

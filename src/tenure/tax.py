@@ -29,7 +29,7 @@ from __future__ import annotations
 import numpy as np
 
 from . import curves
-from .model import AssetType, Depreciation
+from .model import AssetType, Case, Depreciation
 
 #: MACRS GDS percentages of the basis by recovery year, half-year convention: IRS Publication 946,
 #: "How to Depreciate Property", Appendix A, Table A-1.  200 % declining balance switching to straight

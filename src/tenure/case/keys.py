@@ -25,7 +25,7 @@ RESERVED_COLUMNS = ("unit", "class", "start_type", "start_age", "year", "action"
                     "market_value", "defer_cost", "advance_cost", "present_cost", "attributes")
 BUDGET_KEYS = ("cap", "cap_by_year", "basis", "money")
 LIMIT_KEYS = ("class", "max_buys_per_year")
-SCENARIO_KEYS = ("id", "note", "set")
+SCENARIO_KEYS = ("id", "note", "set", "probability")
 UNCERTAIN_KEYS = ("path", "dist", "low", "high", "mode", "mean", "sd")
 DISTRIBUTIONS = ("uniform", "triangular", "normal")
 DEMAND_KEYS = ("class", "count_by_year")

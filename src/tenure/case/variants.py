@@ -12,6 +12,7 @@ from .problems import Checker, blocks
 def _scenarios(chk: Checker, doc: Mapping) -> list[Scenario]:
     out: list[Scenario] = []
     seen: set[str] = set()
+    total, last = 0.0, "scenario"
     for j, b in enumerate(blocks(chk, doc, "scenario"), start=1):
         p = f"scenario[{j}]"
         chk.keys(b, SCENARIO_KEYS, p)
@@ -24,8 +25,15 @@ def _scenarios(chk: Checker, doc: Mapping) -> list[Scenario]:
         sets = chk.table(b.get("set", None), f"{p}.set") if "set" in b else None
         if "set" not in b:
             chk.bad(f"{p}.set", "missing: a table of overrides, e.g. { \"study.discount_rate\" = 0.07 }")
+        prob = chk.number(b, "probability", p, required=False, lo=0, hi=1, what="a probability")
+        if prob is not None:
+            total, last = total + prob, p
         if sid is not None and sets is not None:
-            out.append(Scenario(id=sid, note=note, set=dict(sets)))
+            out.append(Scenario(id=sid, note=note, set=dict(sets), probability=prob))
+    if total > 1 + 1e-9:
+        chk.bad(f"{last}.probability",
+                f"the scenario probabilities sum to {total:g}: they must sum to at most 1 "
+                "(the base case takes 1 − their sum)")
     return out
 
 

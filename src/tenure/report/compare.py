@@ -189,6 +189,23 @@ def _regret(cmp: Comparison, out: list[str], line, lab: int, w: int) -> None:
                    + f" — {reg.rule}")
 
 
+def _commit_regret(cmp: Comparison, out: list[str], line, lab: int, w: int) -> None:
+    reg, n = cmp.commit_regret, cmp.commit_years
+    if reg is None:
+        return
+    ids = cmp.ids
+    out.append("")
+    out.append(f"Regret of committing each row's plan for its first {n} year(s), then re-planning under each")
+    out.append("column's assumptions, less the best plan known there ('n/a': those years cannot be carried out)")
+    out.append(f"{'plan of':<{lab}}" + "".join(i.rjust(w) for i in ids) + "max regret".rjust(w))
+    for i in ids:
+        cells = [("n/a" if reg.breaks[i][j] else text_money(reg.regret[i][j])) for j in ids]
+        line(f"  {i}", cells + [text_money(reg.max_regret.get(i))])
+    out += [f"  note: {x}" for x in cmp.commit_notes]
+    if reg.least_max_regret is not None:
+        out.append(f"least maximum regret when re-planning after {n} year(s): the {reg.least_max_regret} plan")
+
+
 def _safe_now(cmp: Comparison, out: list[str]) -> None:
     safe = cmp.safe_now
     buys = [(s.unit, s.action) for s in safe if s.action != "keep"]
@@ -225,6 +242,7 @@ def compare_text(cmp: Comparison) -> str:
     _in_brief(cmp, out)
     _early(cmp, out, w)
     _regret(cmp, out, line, lab, w)
+    _commit_regret(cmp, out, line, lab, w)
     _safe_now(cmp, out)
     return "\n".join(out)
 

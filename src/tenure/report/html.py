@@ -479,6 +479,18 @@ def _regret_view(cmp: Comparison) -> dict:
             "num": list(range(1, len(ids) + 2)), "best": reg.least_max_regret, "rule": reg.rule, "broke": broke}
 
 
+def _commit_view(cmp: Comparison) -> dict | None:
+    """Head and rows of the commit-then-re-plan regret table (None when it was not asked for)."""
+    reg = cmp.commit_regret
+    if reg is None:
+        return None
+    ids = list(reg.ids)
+    rows = [[i] + [("cannot be carried out" if reg.breaks[i][j] else money(reg.regret[i][j])) for j in ids]
+            + [money(reg.max_regret.get(i))] for i in ids]
+    return {"years": cmp.commit_years, "head": ["plan ↓ / scenario →"] + ids + ["largest regret"], "rows": rows,
+            "num": list(range(1, len(ids) + 2)), "best": reg.least_max_regret, "notes": list(cmp.commit_notes)}
+
+
 def actions_text(actions: dict) -> str:
     """``{unit: "keep" | "replace:<type>"}`` as 'replace 9: rt-diesel 7 (RT-L14#1, …); keep 69'."""
     if not actions:
@@ -528,7 +540,7 @@ def compare_report(cmp: Comparison, case: Case, notes: str = "") -> str:
                        for r in scen],
         cost_svg=Markup(charts.compare_cost_chart(scen, cur)),
         capital_svg=Markup(charts.compare_capital_chart(scen, cur, caps)),
-        regret=_regret_view(cmp), safe_rows=_safe_rows(cmp),
+        regret=_regret_view(cmp), safe_rows=_safe_rows(cmp), commit=_commit_view(cmp),
         first_year=[(r.id, actions_text(r.first_year_actions)) for r in scen],
         differ_rows=[[d.unit, d.year] + [d.actions.get(i, "—") for i in ids] for d in cmp.differ_early],
         types=types, buy_rows=[[r.id] + [money(r.buys_by_type.get(t, 0)) for t in types] for r in scen],

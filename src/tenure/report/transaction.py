@@ -38,7 +38,8 @@ MANIFEST = "manifest.json"
 #: every name any tenure command writes into an output folder (a real file of such a name from an older
 #: version of tenure is adopted into the first set; any other name is left alone)
 KNOWN_NAMES = ("plan.json", "units.csv", "years.csv", "buy-list.csv", "report.html", "plan.xlsx", "compare.json", "compare.csv",
-               "sweep.json", "sweep.csv", "sensitivity.csv", MANIFEST)
+               "sweep.json", "sweep.csv", "sensitivity.csv", "hedge.json", "hedge.csv", "fitted.toml", "fit.json",
+               "fit.html", MANIFEST)
 _SYSTEM_ROOTS = ("/proc", "/sys", "/dev")
 
 

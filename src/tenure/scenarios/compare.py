@@ -101,6 +101,10 @@ class Comparison:
     safe_now: tuple[SafeAction, ...]
     safe_now_from: tuple[str, ...]
     differ_early: tuple[EarlyDifference, ...]
+    #: regret of committing each plan's first ``commit_years`` years, then re-planning (None: not asked)
+    commit_regret: RegretTable | None = None
+    commit_years: int | None = None
+    commit_notes: tuple[str, ...] = ()
 
     @property
     def ids(self) -> list[str]:
@@ -131,9 +135,11 @@ class Comparison:
     def scenario_rows(self) -> tuple[list[str], list[list]]:
         """Columns and rows of ``compare.csv``: cost, difference, max regret, capital by year, buys by type."""
         years, types = self.calendar_years(), self.bought_types()
-        cols = (["id", "note", "status", "present_cost", "difference", "max_regret"]
+        extra = [f"max_regret_commit_{self.commit_years}"] if self.commit_regret is not None else []
+        cols = (["id", "note", "status", "present_cost", "difference", "max_regret"] + extra
                 + [f"capital_{y}" for y in years] + [f"buys_{t}" for t in types])
         rows = [[r.id, r.note, r.status, r.present_cost, r.difference, self.regret.max_regret.get(r.id)]
+                + ([self.commit_regret.max_regret.get(r.id)] if extra else [])
                 + [r.capital_by_year.get(y) for y in years] + [r.buys_by_type.get(t, 0) for t in types]
                 for r in self.scenarios]
         return cols, rows
@@ -150,10 +156,14 @@ class Comparison:
         return self.regret.frame()
 
     def to_dict(self) -> dict:
-        return {"case": self.case, "title": self.title, "start_year": self.start_year, "horizon": self.horizon,
-                "scenarios": [s.to_dict() for s in self.scenarios], "regret": self.regret.to_dict(),
-                "safe_now": [s.to_dict() for s in self.safe_now], "safe_now_from": list(self.safe_now_from),
-                "differ_early": [d.to_dict() for d in self.differ_early]}
+        d = {"case": self.case, "title": self.title, "start_year": self.start_year, "horizon": self.horizon,
+             "scenarios": [s.to_dict() for s in self.scenarios], "regret": self.regret.to_dict(),
+             "safe_now": [s.to_dict() for s in self.safe_now], "safe_now_from": list(self.safe_now_from),
+             "differ_early": [d.to_dict() for d in self.differ_early]}
+        if self.commit_regret is not None:
+            d["commit_regret"] = {**self.commit_regret.to_dict(), "commit_years": self.commit_years,
+                                  "notes": list(self.commit_notes)}
+        return d
 
 
 def select_scenarios(case: Case, wanted: Sequence[str] | None, extra: Sequence[Scenario] = ()) -> list[Scenario]:
@@ -186,7 +196,8 @@ def _actions_in(plan_dict, year) -> dict[str, str]:
 
 
 def compare(case: Case, scenarios: Sequence[Scenario], *, options: Mapping[str, Any] | None = None,
-            workers: int = 1, cluster: str | None = None, progress: bool = False) -> Comparison:
+            workers: int = 1, cluster: str | None = None, progress: bool = False,
+            commit_years: int | None = None) -> Comparison:
     """Solve the base case and each scenario; regret and the actions safe to commit now.
 
     Parameters
@@ -199,6 +210,9 @@ def compare(case: Case, scenarios: Sequence[Scenario], *, options: Mapping[str, 
         See :func:`tenure.parallel.run_tasks`.
     progress : bool
         Show a progress bar on a terminal.
+    commit_years : int or None
+        Also the regret of committing each plan's first N years, then re-planning
+        (:mod:`tenure.scenarios.replan`).
 
     Returns
     -------
@@ -217,8 +231,16 @@ def compare(case: Case, scenarios: Sequence[Scenario], *, options: Mapping[str, 
                  for (sid, note, sets), res in zip(entries, results))
     solved = [sid for sid, res in zip(ids, results) if _solved(res["status"])]
     safe, differ = _first_years(plans, solved, case.study.start_year)
+    commit = (None, ())
+    if commit_years is not None:
+        from .replan import commit_regret_table
+
+        commit = commit_regret_table(case, [(sid, sets) for sid, _, sets in entries], plans,
+                                     {sid: res["present_cost"] for sid, res in zip(ids, results)},
+                                     {sid: res.get("gap") for sid, res in zip(ids, results)}, commit_years,
+                                     options or {}, workers=workers, cluster=cluster)
     return Comparison(case.source, case.study.title, case.study.start_year, case.study.horizon, rows,
-                      regret_table(ids, plans, cases), safe, tuple(solved), differ)
+                      regret_table(ids, plans, cases), safe, tuple(solved), differ, commit[0], commit_years, commit[1])
 
 
 def _result(sid: str, note: str, sets: Mapping, res: Mapping, base_cost: float | None, case: Case) -> ScenarioResult:
