@@ -305,7 +305,9 @@ def test_fit_writes_a_loadable_fitted_case_json_and_html(tmp_path, capsys):
     code = cli.main(["fit", str(case), "--costs", str(tmp_path / "costs.csv"), "--sales", str(tmp_path / "sales.csv"),
                      "--units", str(tmp_path / "units.csv"), "--uncertain", "--out", str(out)])
     printed = capsys.readouterr().out
-    assert code == 0 and sorted(p.name for p in out.iterdir()) == ["fit.html", "fit.json", "fitted.toml"]
+    # written as one output set (docs/outputs.md): the three files, their manifest and the hidden set store
+    assert code == 0 and sorted(p.name for p in out.iterdir() if not p.name.startswith(".")) == [
+        "fit.html", "fit.json", "fitted.toml", "manifest.json"]
     fitted = load_case(out / "fitted.toml")
     doc = json.loads((out / "fit.json").read_text())
     t = doc["types"][0]
@@ -331,16 +333,22 @@ def test_fit_writes_a_loadable_fitted_case_json_and_html(tmp_path, capsys):
     assert "van" in printed and "growth" in printed and "life: case" in printed
 
 
-def test_output_folder_is_replaced_whole_and_foreign_folders_are_refused(tmp_path, capsys):
+def test_output_folder_is_one_set_and_foreign_files_are_left_alone(tmp_path, capsys):
+    # the output transaction of every command (docs/outputs.md): a rerun replaces the set whole, and a
+    # file that is not tenure's stays as it was
     case = write_records(tmp_path)
     out = tmp_path / "out"
     argv = ["fit", str(case), "--costs", str(tmp_path / "costs.csv"), "--units", str(tmp_path / "units.csv"),
             "--out", str(out)]
-    assert cli.main(argv) == 0 and cli.main(argv) == 0
-    assert [p.name for p in tmp_path.iterdir() if p.name.startswith(".")] == []  # no temporary folder left
+    assert cli.main(argv) == 0
+    first = json.loads((out / "manifest.json").read_text())["run_id"]
     (out / "notes.txt").write_text("mine")
-    assert cli.main(argv) == 2 and "holds other files" in capsys.readouterr().err
+    assert cli.main(argv) == 0
+    manifest = json.loads((out / "manifest.json").read_text())
+    assert manifest["run_id"] != first
+    assert sorted(e["name"] for e in manifest["files"]) == ["fit.html", "fit.json", "fitted.toml"]
     assert (out / "notes.txt").read_text() == "mine"
+    assert [p.name for p in tmp_path.iterdir() if p.name.startswith(".")] == []  # nothing left beside the folder
 
 
 def test_too_few_units_keep_the_case_curve_with_a_flag(tmp_path):

@@ -492,4 +492,7 @@ def path_cost(g: StageGraph, steps: list[Step]) -> float:
     return float(total + g.end_pw[t, a])
 
 
-# the networkx view of the same tables lives in tenure.chain_view (re-exported here)
+# re-exported: the networkx view of the same tables (tenure.chain_view) and the defer/advance costs
+# (tenure.flexibility)
+from .chain_view import END, to_networkx  # noqa: E402,F401
+from .flexibility import flexibility  # noqa: E402,F401
