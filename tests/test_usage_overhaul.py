@@ -541,3 +541,25 @@ def test_continuing_end_value_with_usage_and_overhaul_recosts_equal():
     assert not r.breaks
     assert r.cost == pytest.approx(plan["present_cost"], abs=0.01)
     assert any(e["action"] == "overhaul" for u in plan["units"] for e in u["events"])
+
+
+def test_buy_list_lists_overhauls_as_capital_not_as_a_purchase_and_a_sale():
+    # an overhaul is capital of its year (docs/conventions.md, "Overhaul"): the buy list shows it as its own
+    # action with the unit's id, and the listed years still add up to years.csv's capital and market value
+    from tenure.report import buylist
+
+    units = [{"id": f"B{j}", "type": "bus", "age": a} for j, a in enumerate((2, 3, 4, 1))]
+    plan = solve(build_case(bus_doc(horizon=8, units=units)))
+    events = [(u.unit, e.year) for u in plan.units for e in u.events if e.action == "overhaul"]
+    assert events, "the made-up buses are overhauled in this case"
+    bl = buylist.buy_list(plan, plan.years[-1].year - Y0 + 1)
+    over = [p for p in bl.purchases if p.action == "overhaul"]
+    assert sorted((n, p.year) for p in over for n in p.units) == sorted(events)
+    assert all(p.unit_price == 30000 and p.total == 30000 * p.count for p in over)
+    sold = {n for d in bl.disposals for n in d.units}
+    for y in plan.years:
+        cap = sum(p.total for p in bl.purchases if p.year == y.year)
+        value = sum(d.total for d in bl.disposals if d.year == y.year)
+        assert round(cap, 2) == round(y.capital, 2) and round(value, 2) == round(y.salvage, 2)
+    # an overhauled unit is not listed as sold in its overhaul year at a zero price
+    assert not any(d.value_each == 0 for d in bl.disposals) and sold <= {u.unit for u in plan.units}

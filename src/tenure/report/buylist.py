@@ -31,7 +31,11 @@ CSV_COLUMNS = ("year", "action", "class", "type", "count", "age", "unit_price", 
 
 @dataclass(frozen=True)
 class Purchase:
-    """``count`` new units of ``type`` bought in ``year`` at ``unit_price`` each; ``total`` [money, cent-rounded]."""
+    """``count`` new units of ``type`` bought in ``year`` at ``unit_price`` each; ``total`` [money, cent-rounded].
+
+    ``action`` "overhaul": ``count`` held units of ``type`` (ids ``units``, age ``age``) overhauled at
+    ``unit_price`` each, capital of the year like a purchase.
+    """
 
     year: int
     group: str
@@ -40,6 +44,9 @@ class Purchase:
     count: int
     unit_price: float
     total: float
+    action: str = "buy"
+    age: int | None = None
+    units: tuple[str, ...] = ()
 
 
 @dataclass(frozen=True)
@@ -112,24 +119,32 @@ def buy_list(plan: Plan, years: int = DEFAULT_YEARS, group_by: str | None = None
         for ev in u.events:
             if ev.year not in listed:
                 continue
-            b = buys.setdefault((ev.year, group, u.class_, ev.type, ev.price), [0])
-            b[0] += 1
-            s = sells.setdefault((ev.year, group, u.class_, ev.from_type, ev.from_age, ev.market_value), [])
-            s.append(u.unit)
-    rows_b = sorted(buys.items(), key=lambda kv: kv[0][:4])
+            if ev.action == "overhaul":  # capital like a purchase; the unit stays
+                b = buys.setdefault((ev.year, group, u.class_, ev.type, ev.price, "overhaul", ev.from_age), [0])
+                b[0] += 1
+                b.append(u.unit)
+                continue
+            if ev.action in ("replace", "buy"):  # "sell": no purchase
+                b = buys.setdefault((ev.year, group, u.class_, ev.type, ev.price, "buy", None), [0])
+                b[0] += 1
+            if ev.action in ("replace", "sell"):  # "buy" (growth, orders): nothing sold
+                s = sells.setdefault((ev.year, group, u.class_, ev.from_type, ev.from_age, ev.market_value), [])
+                s.append(u.unit)
+    rows_b = sorted(buys.items(), key=lambda kv: (kv[0][:4], kv[0][5]))
     rows_s = sorted(sells.items(), key=lambda kv: (kv[0][:3], kv[0][3], -kv[0][4]))
     by_year = {y.year: y for y in plan.years}
     purchases, disposals = [], []
     capital, value = {}, {}
     for y in listed:
-        pb = [(k, n[0]) for k, n in rows_b if k[0] == y]
+        pb = [(k, n[0], tuple(n[1:])) for k, n in rows_b if k[0] == y]
         ps = [(k, names) for k, names in rows_s if k[0] == y]
         capital[y] = cents(by_year[y].capital) / 100
         value[y] = cents(by_year[y].salvage) / 100
-        tb = apportion([n * k[4] for k, n in pb], cents(by_year[y].capital)) if pb else []
+        tb = apportion([n * k[4] for k, n, _ in pb], cents(by_year[y].capital)) if pb else []
         ts = apportion([len(nm) * k[5] for k, nm in ps], cents(by_year[y].salvage)) if ps else []
         purchases += [Purchase(year=y, group=k[1], class_=k[2], type=k[3], count=n, unit_price=float(k[4]),
-                               total=c / 100) for (k, n), c in zip(pb, tb)]
+                               total=c / 100, action=k[5], age=k[6], units=names)
+                      for (k, n, names), c in zip(pb, tb)]
         disposals += [Disposal(year=y, group=k[1], class_=k[2], type=k[3], age=int(k[4]), units=tuple(nm),
                                value_each=float(k[5]), total=c / 100) for (k, nm), c in zip(ps, ts)]
     return BuyList(years=listed, group_by=group_by, purchases=tuple(purchases), disposals=tuple(disposals),
@@ -141,10 +156,12 @@ def _money(x: float | None) -> str:
 
 
 def buy_list_csv(bl: BuyList) -> str:
-    """``buy-list.csv``: purchases (action ``buy``) then disposals (action ``sell``) of each listed year.
+    """``buy-list.csv``: purchases (action ``buy``) and overhauls (action ``overhaul``), then disposals (action
+    ``sell``) of each listed year.
 
-    Columns: year, action, [the group column], class, type, count, age (sold units), unit_price and
-    total_price (purchases), market_value_each and market_value (disposals), units (ids sold, ``;``-separated).
+    Columns: year, action, [the group column], class, type, count, age (units sold or overhauled), unit_price and
+    total_price (purchases and overhauls: the year's capital), market_value_each and market_value (disposals),
+    units (ids sold or overhauled, ``;``-separated).
     """
     buf = io.StringIO()
     w = csv.writer(buf, lineterminator="\n")
@@ -154,7 +171,8 @@ def buy_list_csv(bl: BuyList) -> str:
     w.writerow(head)
     for y in bl.years:
         for p in (p for p in bl.purchases if p.year == y):
-            row = [p.year, "buy", p.class_, p.type, p.count, "", _money(p.unit_price), _money(p.total), "", "", ""]
+            row = [p.year, p.action, p.class_, p.type, p.count, "" if p.age is None else p.age, _money(p.unit_price),
+                   _money(p.total), "", "", "; ".join(p.units)]
             if bl.group_by:
                 row.insert(2, p.group)
             w.writerow(row)
@@ -167,8 +185,8 @@ def buy_list_csv(bl: BuyList) -> str:
     return buf.getvalue()
 
 
-SHEET_HEAD = ("year", "action", "class", "type", "count", "age (sold)", "unit price", "total price",
-              "expected market value each", "expected market value", "units sold")
+SHEET_HEAD = ("year", "action", "class", "type", "count", "age (sold or overhauled)", "unit price", "total price",
+              "expected market value each", "expected market value", "units")
 
 
 def buy_list_sheet(ws, bl: BuyList) -> None:
@@ -187,12 +205,13 @@ def buy_list_sheet(ws, bl: BuyList) -> None:
     fmt = {6 + n: MONEY, 7 + n: MONEY, 8 + n: MONEY, 9 + n: MONEY}
     for y in bl.years:
         for p in (p for p in bl.purchases if p.year == y):
-            sh.put([y, "buy"] + [p.group] * n + [p.class_, p.type, p.count, None, p.unit_price, p.total, None, None,
-                                                 None], fmt=fmt)
+            sh.put([y, p.action] + [p.group] * n + [p.class_, p.type, p.count, p.age, p.unit_price, p.total, None, None,
+                                                    ", ".join(p.units) or None], fmt=fmt)
         for d in (d for d in bl.disposals if d.year == y):
             sh.put([y, "sell"] + [d.group] * n + [d.class_, d.type, d.count, d.age, None, None, d.value_each, d.total,
                                                   ", ".join(d.units)], fmt=fmt)
-        sh.put([y, "total"] + [None] * n + [None, None, sum(p.count for p in bl.purchases if p.year == y), None, None,
+        sh.put([y, "total"] + [None] * n + [None, None, sum(p.count for p in bl.purchases if p.year == y
+                                                            and p.action == "buy"), None, None,
                                             bl.capital[y], None, bl.market_value[y], None], fmt=fmt, font=TOTAL_FONT)
     if not bl.years:
         sh.put(("no planning year is listed",))

@@ -69,9 +69,11 @@ def buy_list_html(bl: BuyList) -> str:
     rows = []
     for y in bl.years:
         for p in (p for p in bl.purchases if p.year == y):
-            rows.append([y] + ([label(p.group)] if g else []) + [p.class_, p.type, p.count, html.money(p.unit_price),
+            what = p.type if p.action == "buy" else f"overhaul of {p.type}"
+            rows.append([y] + ([label(p.group)] if g else []) + [p.class_, what, p.count, html.money(p.unit_price),
                                                                  html.money(p.total)])
-        rows.append([f"total {y}"] + [""] * len(g) + ["", "", sum(p.count for p in bl.purchases if p.year == y), "",
+        rows.append([f"total {y}"] + [""] * len(g) + ["", "", sum(p.count for p in bl.purchases
+                                                                  if p.year == y and p.action == "buy"), "",
                                                       html.money(bl.capital[y])])
     n = len(g)
     return (f"<h3>Buy list {bl.years[0]}–{bl.years[-1]}</h3>"
