@@ -76,12 +76,9 @@ def _run(args) -> int:
         for prob in exc.problems:
             print(f"  {prob}", file=sys.stderr)
         return EXIT_BAD_INPUT
-    except UsageError as exc:
+    except (UsageError, NoPlanError) as exc:
         print(f"tenure {args.command}: {exc}", file=sys.stderr)
-        return EXIT_BAD_INPUT
-    except NoPlanError as exc:
-        print(f"tenure {args.command}: {exc}", file=sys.stderr)
-        return EXIT_INFEASIBLE
+        return EXIT_INFEASIBLE if isinstance(exc, NoPlanError) else EXIT_BAD_INPUT
     except BrokenPipeError:  # e.g. piped into `head`
         return 0
     except OutputError as exc:

@@ -73,16 +73,19 @@ def _emissions(chk: Checker, b: Mapping, p: str) -> Emissions | None:
     return Emissions(first=first, change=change)
 
 
+def _money_list(chk: Checker, v: list, path: str, empty: str) -> tuple[float, ...] | None:
+    """A list of money figures by age (each ≥ 0 and ≤ MONEY_MAX), or None with the problems recorded."""
+    vals = [chk.number_value(x, f"{path}[{j + 1}]", lo=0, hi=MONEY_MAX, what="money ≥ 0") for j, x in enumerate(v)]
+    if not vals:
+        chk.bad(path, f"= []: {empty}")
+        return None
+    return None if any(x is None for x in vals) else tuple(vals)
+
+
 def _om_curve(chk: Checker, v: Any, path: str) -> OMCurve | None:
     if isinstance(v, list):
-        vals = [chk.number_value(x, f"{path}[{j + 1}]", lo=0, hi=MONEY_MAX, what="money ≥ 0")
-                for j, x in enumerate(v)]
-        if not vals:
-            chk.bad(path, "= []: an O&M list needs one figure per age 1 … max_age")
-            return None
-        if any(x is None for x in vals):
-            return None
-        return OMCurve(kind="table", table=tuple(vals))
+        vals = _money_list(chk, v, path, "an O&M list needs one figure per age 1 … max_age")
+        return None if vals is None else OMCurve(kind="table", table=vals)
     t = chk.table(v, path)
     if t is None:
         return None
@@ -106,14 +109,8 @@ def _om_curve(chk: Checker, v: Any, path: str) -> OMCurve | None:
 
 def _value_curve(chk: Checker, v: Any, path: str) -> ValueCurve | None:
     if isinstance(v, list):
-        vals = [chk.number_value(x, f"{path}[{j + 1}]", lo=0, hi=MONEY_MAX, what="money ≥ 0")
-                for j, x in enumerate(v)]
-        if not vals:
-            chk.bad(path, "= []: a market-value list needs at least the value at age 1")
-            return None
-        if any(x is None for x in vals):
-            return None
-        return ValueCurve(kind="table", table=tuple(vals))
+        vals = _money_list(chk, v, path, "a market-value list needs at least the value at age 1")
+        return None if vals is None else ValueCurve(kind="table", table=vals)
     t = chk.table(v, path)
     if t is None:
         return None
