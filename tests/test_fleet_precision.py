@@ -168,8 +168,8 @@ def test_check_command_reports_the_forced_units(tmp_path):
 
 
 def test_compare_on_the_demo_shows_gaps_and_no_own_plan_is_beaten():
-    """compare on the demo: under its own assumptions no scenario's own plan is beaten by another's
-    (regret is taken against the least known cost, so the diagonal is 0 and nothing is negative), and
+    """compare on the demo: under its own assumptions a scenario's own plan is beaten by another's by no more
+    than its proven gap (regret is taken against the least known cost, so nothing is negative), and
     the regret table states each scenario's proven gap, marking regrets below it."""
     from tenure import scenarios as sc
     from tenure.case import load_case
@@ -181,7 +181,10 @@ def test_compare_on_the_demo_shows_gaps_and_no_own_plan_is_beaten():
     reg = cmp.regret
     for i in cmp.ids:
         if reg.regret[i][i] is not None:
-            assert reg.regret[i][i] == 0.0, i
+            # a scenario's own plan is beaten under its own assumptions at most by its proven gap: regret is
+            # taken against the least known cost, and any excess on the diagonal is within solver tolerance
+            g = cmp.scenario(i).gap
+            assert 0.0 <= reg.regret[i][i] <= g * abs(reg.best_under[i]) + 0.01, i
         assert all(r is None or r >= 0 for r in reg.regret[i].values())
     text = compare_text(cmp)
     row = next(ln for ln in text.splitlines() if ln.strip().startswith("proven gap"))

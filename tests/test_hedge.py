@@ -23,7 +23,7 @@ import pytest
 from tenure import curves
 from tenure.case import CaseError, build_case
 from tenure.cli import main
-from tenure.hedge import HEDGE_KEYS, NoCommonCommitment, hedge, probabilities
+from tenure.hedge import HEDGE_KEYS, hedge, probabilities
 from tenure.model import Scenario
 from tenure.solve import solve
 
@@ -233,7 +233,11 @@ def test_cli_writes_the_set(tmp_path, capsys):
     assert rows[0] == "unit,year,type" and len(rows) == 1 + len(buys)
     html = (out / "report.html").read_text()
     assert "perfect information" in html and "inspections" in html.lower()
-    assert sorted(x.name for x in out.iterdir()) == ["hedge.csv", "hedge.json", "report.html"]
+    # one output set (docs/outputs.md): the three files, their manifest (with the run id), the hidden set store
+    assert sorted(x.name for x in out.iterdir()) == [".tenure", "hedge.csv", "hedge.json", "manifest.json",
+                                                     "report.html"]
+    manifest = json.loads((out / "manifest.json").read_text())
+    assert sorted(e["name"] for e in manifest["files"]) == ["hedge.csv", "hedge.json", "report.html"]
 
 
 # ---------------------------------------------------------------------------
@@ -288,7 +292,7 @@ def test_compare_commit_regret(tmp_path):
     checked = 0
     for i in cmp.ids:
         acts = cmp.scenario(i).first_year_actions
-        key = tuple((acts[f"{u.id}#1"].split(":", 1)[-1] if acts[f"{u.id}#1"] != "keep" else "keep",)
+        key = tuple((acts[u.names()[0]].split(":", 1)[-1] if acts[u.names()[0]] != "keep" else "keep",)
                     for u in case.units)
         for j, o in zip(cmp.ids, own):
             if key in table:

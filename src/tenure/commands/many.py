@@ -114,7 +114,7 @@ def cmd_hedge(args) -> int:
             raise UsageError(str(exc)) from None
         except ClusterError as exc:
             raise UsageError(f"--cluster {args.cluster}: {exc}") from None
-        report_hedge.write_hedge(h, case, tx.staging, run_id=tx.run_id)
+        report_hedge.write_hedge(h, case, tx.staging)
         paths = _commit(tx, {"case": case.source})
     print(report_hedge.hedge_text(h))
     print(f"\nwritten to {args.out}/: " + ", ".join(p.name for p in paths) + f" (run id {tx.run_id})")

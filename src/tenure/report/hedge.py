@@ -67,11 +67,11 @@ def hedge_report(h: Hedge, case: Case) -> str:
                   assumptions=Markup(assumptions_html(case)), footer=Markup(footer_html(case)))
 
 
-def write_hedge(h: Hedge, case: Case, out_dir: Path | str, run_id: str | None = None) -> list[Path]:
-    """``hedge.json`` (with the output set's ``run_id`` first when given), ``hedge.csv`` and ``report.html``
-    into ``out_dir`` (the staging folder of the output transaction, ``report.transaction``)."""
+def write_hedge(h: Hedge, case: Case, out_dir: Path | str) -> list[Path]:
+    """``hedge.json``, ``hedge.csv`` and ``report.html`` into ``out_dir`` (the staging folder of the output
+    transaction, ``report.transaction``, whose manifest carries the run id: hedge.json keeps exactly the
+    keys of ``Hedge.to_dict``)."""
     out = Path(out_dir)
-    body = h.to_dict()
-    return [files.write_json(out / "hedge.json", {"run_id": run_id, **body} if run_id is not None else body),
+    return [files.write_json(out / "hedge.json", h.to_dict()),
             files.write_text(out / "hedge.csv", hedge_csv(h)),
             files.write_text(out / "report.html", hedge_report(h, case))]
