@@ -46,7 +46,7 @@ def one_type(price=10000.0, dep=None, max_age=6, om=(0.0,), salvage=None, price_
 # ---------------------------------------------------------------------------
 #: IRS Publication 946, "How to Depreciate Property", Appendix A, Table A-1, "3-, 5-, 7-, 10-, 15-,
 #: and 20-Year Property, Half-Year Convention", percentages by recovery year (from memory; the 5-,
-#: 7- and 15-year columns were also compared with a public transcription of the table).
+#: 7- and 15-year columns were also compared with a public copy of the table).
 PUB946_TABLE_A1 = {
     3: [33.33, 44.45, 14.81, 7.41],
     5: [20.00, 32.00, 19.20, 11.52, 11.52, 5.76],

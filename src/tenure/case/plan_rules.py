@@ -159,15 +159,7 @@ def _targets(chk: Checker, doc: Mapping, types: list[AssetType]) -> list[Target]
         p = f"target[{j}]"
         chk.keys(b, TARGET_KEYS, p)
         name = chk.string(b, "name", p, required=False, default=p) or p
-        ids = b.get("types")
-        if not isinstance(ids, list) or not ids or not all(isinstance(x, str) for x in ids):
-            chk.bad(f"{p}.types", f"= {ids!r}: must be a non-empty list of asset-type ids")
-            ids = None
-        else:
-            for x in ids:
-                if x not in by_id:
-                    _unknown(chk, f"{p}.types", x, by_id, "asset type")
-                    ids = None
+        ids = _name_list(chk, b.get("types"), f"{p}.types", by_id, "asset-type ids", "asset type")
         buys = chk.number(b, "share_of_buys", p, required=False, default=None, lo=0, hi=1, what="a share")
         held = chk.number(b, "share_in_service", p, required=False, default=None, lo=0, hi=1, what="a share")
         if "share_of_buys" not in b and "share_in_service" not in b:
@@ -176,15 +168,8 @@ def _targets(chk: Checker, doc: Mapping, types: list[AssetType]) -> list[Target]
         cls = b.get("classes")
         if cls is None and ids is not None:
             cls = list(dict.fromkeys(by_id[x].class_ for x in ids))
-        elif not isinstance(cls, list) or not cls or not all(isinstance(c, str) for c in cls):
-            chk.bad(f"{p}.classes", f"= {cls!r}: must be a non-empty list of classes")
-            cls = None
-        else:
-            for c in cls:
-                if c not in classes:
-                    _unknown(chk, f"{p}.classes", c, classes, "class")
-                    cls = None
-                    break
+        elif cls is not None or "classes" in b:
+            cls = _name_list(chk, cls, f"{p}.classes", classes, "classes", "class")
             if cls is not None and ids is not None:
                 outside = [x for x in ids if by_id[x].class_ not in cls]
                 if outside:
@@ -195,6 +180,17 @@ def _targets(chk: Checker, doc: Mapping, types: list[AssetType]) -> list[Target]
             out.append(Target(types=tuple(ids), classes=tuple(cls), from_=start, share_of_buys=buys,
                               share_in_service=held, label=name))
     return out
+
+
+def _name_list(chk: Checker, value, where: str, known, plural: str, what: str) -> list[str] | None:
+    """A non-empty list of known names (types or classes), or None with every problem recorded."""
+    if not isinstance(value, list) or not value or not all(isinstance(x, str) for x in value):
+        chk.bad(where, f"= {value!r}: must be a non-empty list of {plural}")
+        return None
+    bad = [x for x in value if x not in known]
+    for x in bad:
+        _unknown(chk, where, x, known, what)
+    return None if bad else value
 
 
 def _emission_caps(chk: Checker, doc: Mapping) -> list[EmissionCap]:
