@@ -650,3 +650,47 @@ def test_progress_bar_draws_only_on_a_terminal_after_the_delay():
     with bar(4, "sweep", stream=late, delay=60.0, force=True) as b:
         b.update(4)
     assert late.getvalue() == ""  # finished before the delay: nothing drawn
+
+
+def test_a_cheaper_schedule_from_another_scenario_becomes_the_best_known_plan(fleet):
+    # source: issue 10 ("the better one becomes that scenario's best known plan, and the regret is taken
+    # against it") and common practice (minimax regret: a plan's regret under its own assumptions is zero
+    # when it is the best plan known there).  Scenario "twin" has the base's assumptions but, standing in
+    # for a solve that stopped within its gap, a worse plan: the base plan with T2#1's replacement a year
+    # late.  Its cost is recomputed by recost, independently of the solve, and its extra cost is the
+    # plan's own cost of deferring that replacement a year (defer_cost).
+    from tenure.scenarios.bestknown import adopt, best_known
+    from tenure.scenarios.recost import regret_table
+
+    good = solve(fleet, progress=False).to_dict()
+    worse = copy.deepcopy(good)
+    t2 = next(u for u in worse["units"] if u["unit"] == "T2#1")
+    (ev,) = t2["events"]
+    t2["events"] = [dict(ev, year=ev["year"] + 1)]
+    ids = ["base", "twin"]
+    cases = {"base": fleet, "twin": fleet}
+    plans = {"base": good, "twin": worse}
+    worse_cost = sc.recost(worse, fleet).cost
+    assert sc.recost(worse, fleet).feasible
+    assert worse_cost - good["present_cost"] == pytest.approx(ev["defer_cost"], abs=0.011)
+    results = [{"status": "optimal", "present_cost": good["present_cost"], "gap": 0.0,
+                "lower_bound": good["present_cost"], "tolerance": 1e-4},
+               {"status": "feasible", "present_cost": worse_cost, "gap": 0.01,
+                "lower_bound": good["present_cost"] - 1.0, "tolerance": 1e-4}]
+    table = regret_table(ids, plans, cases)
+    assert table.regret["twin"]["twin"] == pytest.approx(worse_cost - good["present_cost"], abs=0.01)
+    chosen = best_known(ids, plans, table)
+    assert chosen == {"twin": "base"}
+    new_plans, new_results = adopt(ids, plans, results, cases, chosen)
+    twin = new_results[1]
+    assert twin["plan_from"] == "base" and new_plans["twin"] is good
+    assert twin["present_cost"] == pytest.approx(good["present_cost"], abs=0.01)
+    # the bound stays the twin solve's own; the gap narrows to (cost − bound) / cost
+    bound = good["present_cost"] - 1.0
+    assert twin["gap"] == pytest.approx((twin["present_cost"] - bound) / twin["present_cost"], rel=1e-12)
+    assert twin["gap"] < 1e-4 and twin["status"] == "optimal"
+    assert twin["first_year"] == sc.first_year_actions(good, START)
+    assert sum(twin["capital_by_year"].values()) == pytest.approx(sum(y["capital"] for y in good["years"]), abs=0.05)
+    again = regret_table(ids, new_plans, cases)
+    assert again.regret["twin"]["twin"] == 0.0 and again.regret["base"]["base"] == 0.0
+    assert best_known(ids, new_plans, again) == {}

@@ -121,17 +121,12 @@ def _early(cmp: Comparison, out: list[str], w: int) -> None:
 
 
 def _own_plan_note(cmp: Comparison, i: str) -> str | None:
-    """Why another plan is cheaper under scenario ``i`` than ``i``'s own: read from the plan's status and gap."""
-    reg = cmp.regret
-    own = reg.regret[i][i]
-    if own is None or own <= 0.005 * max(abs(reg.best_under[i] or 0.0), 1.0) * 1e-3:
-        return None
+    """When scenario ``i``'s plan is another scenario's schedule (cheaper under ``i`` than ``i``'s own
+    solve, which stopped within its proven gap): say so, from the scenario's message."""
     r = cmp.scenario(i)
-    cheaper = [k for k in cmp.ids if reg.regret[k][i] == 0.0]
-    why = (f"{i}'s plan is {r.status}, proven within {r.gap:.2%} of the least cost" if r.gap is not None
-           else f"{i}'s plan is {r.status}")
-    return (f"  note: under {i} the {', '.join(cheaper) or 'another'} plan is {text_money(own)} cheaper than "
-            f"{i}'s own plan ({why})")
+    if not r.plan_from or r.plan_from == i:
+        return None
+    return f"  note: {i}: {r.message}"
 
 
 def _tolerance_money(cmp: Comparison) -> dict:

@@ -16,6 +16,7 @@ from typing import Any, Mapping, Sequence
 
 from ..model import Case, Scenario
 from .overrides import case_with
+from .bestknown import adopt, best_known
 from .recost import RegretTable, regret_table
 from .tasks import first_year_actions, make_task, solve_all as _solve_all
 from .tasks import round2 as _r
@@ -47,6 +48,9 @@ class ScenarioResult:
     capital_by_year: Mapping[str, float]
     buys_by_type: Mapping[str, int]
     first_year_actions: Mapping[str, str]
+    #: the scenario whose solve produced the schedule: ``id`` itself, or another scenario's id when that
+    #: schedule is cheaper under this one (the best known plan, :mod:`tenure.scenarios.bestknown`)
+    plan_from: str = ""
 
     @property
     def solved(self) -> bool:
@@ -57,7 +61,8 @@ class ScenarioResult:
         return {"id": self.id, "note": self.note, "set": dict(self.set), "status": self.status,
                 "present_cost": self.present_cost, "difference": self.difference, "gap": self.gap,
                 "message": self.message, "capital_by_year": dict(self.capital_by_year),
-                "buys_by_type": dict(self.buys_by_type), "first_year_actions": dict(self.first_year_actions)}
+                "buys_by_type": dict(self.buys_by_type), "first_year_actions": dict(self.first_year_actions),
+                "plan_from": self.plan_from or self.id}
 
 
 @dataclass(frozen=True)
@@ -226,6 +231,12 @@ def compare(case: Case, scenarios: Sequence[Scenario], *, options: Mapping[str, 
     results = _solve_all(tasks, workers=workers, cluster=cluster, label="compare", progress=progress)
     ids = [sid for sid, _, _ in entries]
     plans = {sid: res.get("plan") for sid, res in zip(ids, results)}
+    # a schedule solved for another scenario that is cheaper under a scenario becomes its plan (bestknown.py)
+    table = regret_table(ids, plans, cases)
+    chosen = best_known(ids, plans, table)
+    if chosen:
+        plans, results = adopt(ids, plans, results, cases, chosen)
+        table = regret_table(ids, plans, cases)
     base_cost = results[0]["present_cost"] if _solved(results[0]["status"]) else None
     rows = tuple(_result(sid, note, sets, res, base_cost, cases[sid])
                  for (sid, note, sets), res in zip(entries, results))
@@ -240,7 +251,7 @@ def compare(case: Case, scenarios: Sequence[Scenario], *, options: Mapping[str, 
                                      {sid: res.get("gap") for sid, res in zip(ids, results)}, commit_years,
                                      options or {}, workers=workers, cluster=cluster)
     return Comparison(case.source, case.study.title, case.study.start_year, case.study.horizon, rows,
-                      regret_table(ids, plans, cases), safe, tuple(solved), differ, commit[0], commit_years, commit[1])
+                      table, safe, tuple(solved), differ, commit[0], commit_years, commit[1])
 
 
 def _result(sid: str, note: str, sets: Mapping, res: Mapping, base_cost: float | None, case: Case) -> ScenarioResult:
@@ -251,13 +262,14 @@ def _result(sid: str, note: str, sets: Mapping, res: Mapping, base_cost: float |
         for y in pd_["years"]:
             cap_by_year[str(y["year"])] = y["capital"]
             buys_by_type.update(y["buys_by_type"])
+    cap_by_year = dict(res.get("capital_by_year", cap_by_year))  # another scenario's schedule, costed here
     ok = _solved(res["status"])
     return ScenarioResult(
         id=sid, note=note, set=sets, status=res["status"], present_cost=_r(pc),
         difference=_r(pc - base_cost) if ok and base_cost is not None and pc is not None else None,
         gap=res.get("gap"), message=res.get("message", ""), capital_by_year=cap_by_year,
         buys_by_type={t.id: buys_by_type[t.id] for t in case.types if buys_by_type[t.id]},
-        first_year_actions=res.get("first_year", {}))
+        first_year_actions=res.get("first_year", {}), plan_from=res.get("plan_from", sid))
 
 
 def _first_years(plans: Mapping, solved: Sequence[str], y0: int):

@@ -35,11 +35,14 @@ class Recost:
 
     ``cost`` is the present cost at time 0 [money] (None when the schedule
     cannot be laid on the case at all: another horizon, other units, an
-    unknown type); ``breaks`` lists the rules it breaks there.
+    unknown type); ``breaks`` lists the rules it breaks there; ``capital``
+    the purchase prices and overhaul costs of each year under the case
+    [money, undiscounted, constant money] (empty when ``cost`` is None).
     """
 
     cost: float | None
     breaks: tuple[str, ...]
+    capital: tuple[float, ...] = ()
 
     @property
     def feasible(self) -> bool:
@@ -163,7 +166,7 @@ def recost(plan_dict: Mapping, case: Case) -> Recost:
     _budget_breaks(case, capital, proceeds, buys, broken)
     msgs = tuple(m if n == 1 or "cap" in m or "limit" in m else f"{m} ({n} units)"
                  for m, n in sorted(broken.items(), key=lambda kv: kv[0][:4]))
-    return Recost(float(total), msgs)
+    return Recost(float(total), msgs, tuple(float(c) for c in capital))
 
 
 def _overhaul_of(t, a: int, oh, y: int, broken: Counter) -> Overhaul:

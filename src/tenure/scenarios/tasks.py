@@ -55,7 +55,7 @@ def run_task(task: Mapping) -> dict:
         return {"status": "infeasible", "message": f"no plan: {exc}", "present_cost": None}
     d = plan.to_dict()
     out = {"status": plan.status, "present_cost": float(plan.present_cost), "gap": float(plan.gap),
-           "lower_bound": float(plan.lower_bound), "message": plan.message,
+           "lower_bound": float(plan.lower_bound), "tolerance": plan.tolerance, "message": plan.message,
            "first_year": first_year_actions(d, case.study.start_year)}
     if task.get("keep_plan"):
         out["plan"] = d
