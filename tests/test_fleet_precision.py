@@ -18,7 +18,7 @@ from casekit import to_toml
 from tenure import fleet
 from tenure.case import build_case
 from tenure.fleet import driver
-from tenure.fleet.backend import MIPResult, get_backend
+from tenure.fleet.backend import LPResult, MIPResult, get_backend
 from tenure.fleet.precheck import forced_over_caps
 from tenure.plan import NoPlanFound
 from tenure.report.text import plan_summary
@@ -79,9 +79,12 @@ def test_known_shortfall_is_proven_least(solver):
 
 
 def _no_bound_backend(base):
-    """``base`` whose integer solve stops without a proven bound (as at a time limit)."""
+    """``base`` whose LP and integer solves stop without a proven bound (as at a time limit)."""
     class NoBound(base):
         label = "stopped"
+
+        def solve_lp(self):
+            return LPResult("time limit reached")  # no LP bound either
 
         def solve_mip(self, *a, **kw):
             r = super().solve_mip(*a, **kw)
@@ -195,3 +198,58 @@ def test_compare_on_the_demo_shows_gaps_and_no_own_plan_is_beaten():
             r = reg.regret[i][j]
             if r is not None and 0 < r <= g * abs(reg.best_under[j]) and not reg.breaks[i][j]:
                 assert "*" in text and "within solver" in text
+
+
+@pytest.mark.parametrize("name", list(SMALL) + list(MORE))
+def test_windows_of_years_give_a_whole_unit_plan_within_every_row(name):
+    """Relax-and-fix by windows (fleet.windows): on the elastic program (extra capital absorbs any
+    overspend) it always finishes; on the capped program it may not (a window can find the years fixed
+    before it leave no whole-unit plan), but any point it gives is integral, within every bound and
+    row of the program (checked by matrix arithmetic here), and costs no less than the exhaustive optimum."""
+    import time
+
+    import numpy as np
+
+    from tenure.fleet.program import build_program
+    from tenure.fleet.windows import window_plan
+
+    case = _case(name)
+    best, _ = exhaustive_optimum(case)
+    prog = build_program(case)
+    el, _years = prog.with_elastic_caps()
+    integ = np.concatenate([np.ones(prog.n_cols, dtype=np.int32), np.zeros(el.n_cols - prog.n_cols, dtype=np.int32)])
+    for p, integrality, must in ((prog, None, False), (el, integ, True)):
+        x = window_plan(p, get_backend("highs"), time.perf_counter() + 60, integrality, width=2, step=1)
+        if x is None:
+            assert not must
+            continue
+        whole = np.ones(p.n_cols, dtype=bool) if integrality is None else integrality == 1
+        assert np.array_equal(x[whole], np.round(x[whole]))
+        assert np.all(x >= p.lower - 1e-9) and np.all(x <= p.upper + 1e-9)
+        act = p.matrix @ x
+        assert np.all(act >= p.row_lower - 1e-6) and np.all(act <= p.row_upper + 1e-6)
+        if p is prog:
+            assert float(prog.cost @ x) >= best - 0.01
+
+
+def test_elastic_windows_find_the_known_shortfall_and_the_lp_proves_it():
+    """Hand arithmetic (test_known_shortfall_is_proven_least): the windows' plan of the elastic program
+    needs exactly the known extra capital, and its LP bound equals it, so it is proven least without
+    an integer search."""
+    import time
+
+    import numpy as np
+
+    from tenure.fleet import shortfall as sf
+    from tenure.fleet.program import build_program
+
+    case = build_case(forced_doc())
+    prog = build_program(case)
+    el, years = prog.with_elastic_caps()
+    n0, m = prog.n_cols, len(years)
+    integ = np.concatenate([np.ones(n0, dtype=np.int32), np.zeros(m, dtype=np.int32)])
+    stage1 = sf._with_cost(el, np.concatenate([np.zeros(n0), np.ones(m)]))
+    res = sf._least_extra(stage1, integ, get_backend("highs"), time.perf_counter() + 30, 1e-4)
+    assert res.status == "optimal"
+    assert float(res.x[n0:].sum()) == pytest.approx(10000.0, abs=1e-6)
+    assert res.bound == pytest.approx(10000.0, abs=1e-6)

@@ -5,8 +5,10 @@
 2. The LP relaxation: a proven lower bound and the shadow price of each year's cap.
 3. Fix-and-relax by year, guided by the LP (:mod:`tenure.fleet.rounding`): a
    feasible plan whose gap against the LP bound is usually well under 0.5 %.
+   When that rounding fails, relax-and-fix by windows of years
+   (:mod:`tenure.fleet.windows`) for at most ``WINDOWS_SHARE`` of the time left.
 4. If the gap is still above the target, the integer program from that plan as
-   its start, for the time left.
+   its start (or, when both failed, from the years the rounding had fixed), for the time left.
 
 When no plan fits the caps, the elastic program (:mod:`tenure.fleet.shortfall`)
 finds the least extra capital per year that makes one fit, and the plan under
@@ -33,11 +35,16 @@ from .precheck import forced_over_caps
 from .program import build_program
 from .rounding import fix_and_relax
 from .shortfall import shortfall
+from .windows import window_plan
 
 INF = math.inf
 #: the default stopping gap, relative; also the loosest gap within which a plan is called
 #: "optimal" (a looser ``--gap`` stops sooner, and the plan is then "feasible" with its gap)
 DEFAULT_GAP = 1e-4
+#: the share of the time left that windows of years may take when the rounding fails (the MIP gets the rest)
+WINDOWS_SHARE = 0.6
+#: years before the one the rounding failed at that the repair re-opens
+REPAIR_BACK = 2
 
 
 @dataclass
@@ -137,10 +144,17 @@ def _solve_program(run: _Run, gap: float) -> Plan:
     if xr is not None and case.coupled and not rules_rows.satisfies(prog, xr):
         run.log("the rounded plan breaks a coupling row: the MIP solver takes over")
         xr = None
+    if xr is None and time.perf_counter() < run.deadline:
+        xr = _repair(run, prog, partial)
+        if xr is not None:
+            method = f"relax-and-fix by windows of years ({label})"
+            run.log("plan by windows of years")
+        else:
+            run.log("windows of years found no plan: the MIP solver takes over")
     if xr is not None:
         best_x, best_cost = xr, float(prog.cost @ xr)
         stats["first_plan_seconds"] = run.elapsed()
-        run.log(f"fix-and-relax plan {best_cost:,.0f} (gap {(best_cost - lp_bound) / abs(best_cost):.3%})")
+        run.log(f"first plan {best_cost:,.0f} (gap {(best_cost - lp_bound) / abs(best_cost):.3%})")
     bound, bound_from = lp_bound, f"LP relaxation ({label})"
     history = stats.setdefault("gap_history", [])
     cur_gap = (best_cost - bound) / abs(best_cost) if best_x is not None else INF
@@ -161,7 +175,7 @@ def _solve_program(run: _Run, gap: float) -> Plan:
             cm = float(prog.cost @ xm)
             if cm < best_cost:
                 best_x, best_cost = xm, cm
-                method = f"integer program ({label})" + (" from the fix-and-relax plan" if xr is not None else "")
+                method = f"integer program ({label})" + (" from the first plan" if xr is not None else "")
                 stats.setdefault("first_plan_seconds", run.elapsed())
             if res.bound is not None and res.bound > bound:
                 bound, bound_from = res.bound, f"integer program's dual bound ({label})"
@@ -179,6 +193,21 @@ def _solve_program(run: _Run, gap: float) -> Plan:
     plan = plan.with_(tolerance=stats["tolerance"])
     run.log(f"plan {plan.present_cost:,.0f}, gap {plan.gap:.3%}, status {plan.status}")
     return plan
+
+
+def _repair(run: _Run, prog, partial: list):
+    """A plan when the rounding failed: windows of years (each a small MIP that sees the LP of the later
+    years), first over the years from a little before the failure with the rounding's earlier years
+    kept, then over every year; at most ``WINDOWS_SHARE`` of the time left in all."""
+    deadline = time.perf_counter() + WINDOWS_SHARE * (run.deadline - time.perf_counter())
+    kept = partial[:-REPAIR_BACK] if len(partial) > REPAIR_BACK else []
+    if kept:
+        hint = _partial_start(kept)
+        x = window_plan(prog, run.backend, deadline, fixed=hint, first_year=len(kept))
+        if x is not None:
+            run.log(f"the rounding's first {len(kept)} years kept, the later ones repaired by windows of years")
+            return x
+    return window_plan(prog, run.backend, deadline)
 
 
 def _partial_start(partial: list):

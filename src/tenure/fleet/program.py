@@ -92,6 +92,17 @@ class CohortProgram:
     def a_value(self) -> np.ndarray:
         return self.matrix.data.astype(float)
 
+    def column_years(self) -> np.ndarray:
+        """(n_cols,) the year index k of each class column (keep, sell, buy and overhaul at time k);
+        −1 for any other column (e.g. the elastic program's extra capital)."""
+        years = np.full(self.n_cols, -1, dtype=np.int64)
+        for ci in self.cols.values():
+            for arr in (ci.keep, ci.sell, ci.buy, ci.overhaul):
+                if arr is not None:
+                    k = np.nonzero(arr >= 0)[0]
+                    years[arr[arr >= 0]] = k
+        return years
+
     def with_elastic_caps(self) -> tuple["CohortProgram", np.ndarray]:
         """The program with one extra column per capped year (coefficient −1 in its cap row, so
         it adds capital to that cap), unbounded above.  Returns it and the capped years' indices."""

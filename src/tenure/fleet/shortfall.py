@@ -18,8 +18,9 @@ import numpy as np
 
 from ..model import Case
 from ..plan import InfeasibleLimits, NoPlanFound
-from .backend import Backend
+from .backend import Backend, MIPResult
 from .program import CohortProgram, build_program
+from .windows import window_plan
 
 #: the flows' present cost is scaled by this in the elastic program, so it only breaks ties
 #: between plans that need the same extra capital
@@ -53,8 +54,9 @@ def shortfall(case: Case, graphs, backend: type[Backend], time_limit: float, unc
     """Solve the elastic program of ``case`` with ``backend`` for at most ``time_limit`` [s].
 
     Two stages on one program (lexicographic, common practice): (1) minimise the total extra
-    capital Σ e_k alone, so the solver's dual bound *is* a lower bound on the least extra capital
-    (no cost term mixed in that could lift the bound without any extra being needed); (2) with each
+    capital Σ e_k alone, so the LP's and the solver's dual bounds *are* lower bounds on the least
+    extra capital (no cost term mixed in that could lift the bound without any extra being needed),
+    from a plan found by windows of years (:func:`_least_extra`); (2) with each
     e_k bounded by stage 1's values, minimise the flows' present cost from stage 1's point.
     ``uncapped_cost`` is accepted for compatibility and not used.
 
@@ -67,7 +69,7 @@ def shortfall(case: Case, graphs, backend: type[Backend], time_limit: float, unc
     n0, m = prog.n_cols, len(years)
     integrality = np.concatenate([np.ones(n0, dtype=np.int32), np.zeros(m, dtype=np.int32)])
     stage1 = _with_cost(el, np.concatenate([np.zeros(n0), np.ones(m)]))
-    res = backend(stage1, integrality).solve_mip(max(0.6 * time_limit, 5.0), 0.0)
+    res = _least_extra(stage1, integrality, backend, t0 + max(0.6 * time_limit, 5.0), gap)
     if res.x is None:
         if res.status == "infeasible":  # even unlimited capital does not help: a limit binds
             raise InfeasibleLimits()
@@ -86,6 +88,32 @@ def shortfall(case: Case, graphs, backend: type[Backend], time_limit: float, unc
     if left > 1.0 and total > 0:
         x = _cheapest_under(el, n0, m, years, extra, integrality, backend, left, gap, res.x, x)
     return Shortfall(extra=extra, x=x, prog=prog, proven=bound > 0.5, bound=bound, least=least)
+
+
+def _least_extra(stage1: CohortProgram, integrality, backend, deadline: float, gap: float) -> MIPResult:
+    """Stage 1: the least total extra capital.  The LP bound, then a plan by windows of years
+    (:mod:`tenure.fleet.windows`; the extra capital absorbs any overspend, so it finishes), then the
+    integer program from that plan while it is not proven least (within :data:`ABS_TOL` or ``gap``)."""
+    be = backend(stage1, integrality)
+    lp = be.solve_lp()
+    if lp.status == "infeasible":  # even unlimited capital does not help
+        return MIPResult("infeasible")
+    lp_bound = float(stage1.cost @ lp.x) if lp.x is not None else -math.inf  # an LP not solved proves nothing
+    # the windows' own gap as the proof's: on this objective a window's slack is the total's
+    start = window_plan(stage1, backend, time.perf_counter() + 0.8 * (deadline - time.perf_counter()),
+                        integrality, gap=max(gap, 1e-6))
+    if start is not None:
+        total = float(stage1.cost @ start)
+        if total - lp_bound <= max(ABS_TOL, gap * total):
+            return MIPResult("optimal", start, lp_bound)
+    res = be.solve_mip(max(1.0, deadline - time.perf_counter()), 0.0, start)
+    bound = max(lp_bound, res.bound if res.bound is not None else -math.inf)
+    bound = None if math.isinf(bound) else bound
+    if res.x is None:
+        return res if start is None else MIPResult("feasible", start, bound)
+    if start is not None and float(stage1.cost @ start) < float(stage1.cost @ res.x):
+        return MIPResult(res.status, start, bound)
+    return MIPResult(res.status, res.x, bound)
 
 
 def _cheapest_under(el, n0, m, years, extra, integrality, backend, time_limit, gap, start, fallback):
