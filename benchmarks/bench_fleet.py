@@ -122,12 +122,12 @@ def first_time_at(history, target: float):
 # ---------------------------------------------------------------------------
 # this layer: the whole CLI run
 # ---------------------------------------------------------------------------
-def run_layer(doc: dict, time_limit: float, workdir: Path) -> dict:
+def run_layer(doc: dict, time_limit: float, workdir: Path, extra: list | None = None) -> dict:
     case_path = write_case(doc, workdir)
     out = workdir / "out"
     env = dict(os.environ, PYTHONIOENCODING="utf-8")
     cmd = [sys.executable, "-m", "tenure.cli", "plan", str(case_path), "--out", str(out), "--quiet",
-           "--time-limit", str(time_limit)]
+           "--time-limit", str(time_limit)] + list(extra or [])
     t0 = time.perf_counter()
     r = subprocess.run(cmd, capture_output=True, text=True, encoding="utf-8", env=env)
     wall = time.perf_counter() - t0
@@ -144,6 +144,7 @@ def run_layer(doc: dict, time_limit: float, workdir: Path) -> dict:
         "t1": first_time_at(hist, TARGETS[0]),
         "t05": first_time_at(hist, TARGETS[1]),
         "gap": plan["gap"] if plan["status"] != "infeasible" else None,
+        "cost": plan.get("present_cost"),
         "columns": st.get("columns"),
         "rows": st.get("rows"),
         "exit": r.returncode,

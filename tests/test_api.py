@@ -254,3 +254,21 @@ def test_compare_of_a_scenario_object_equals_the_case_rebuilt_from_frames():
     assert list(rows) == ["base", "dear-money"]
     assert rows["dear-money"]["present_cost"] == pytest.approx(_solved_at_rate(case, 0.07), abs=0.011)
     assert rows["base"]["present_cost"] == pytest.approx(round(tenure.solve(case).present_cost, 2), abs=0.011)
+
+
+def test_api_defaults_are_the_command_lines():
+    """A notebook's tenure.solve / compare / sweep stop where `tenure plan` / `compare` / `sweep` stop:
+    the same time limit and the same default gap as the fleet layer's (fleet.driver.DEFAULT_GAP)."""
+    import inspect
+
+    from tenure.commands.parser import build_parser
+    from tenure.fleet.driver import DEFAULT_GAP
+
+    p = build_parser()
+    plan = p.parse_args(["plan", "x.toml", "--out", "o"])
+    cmp = p.parse_args(["compare", "x.toml"])
+    swp = p.parse_args(["sweep", "x.toml", "--samples", "3"])
+    for fn, args in ((tenure.solve, plan), (tenure.compare, cmp), (tenure.sweep, swp)):
+        sig = inspect.signature(fn).parameters
+        assert sig["time_limit"].default == args.time_limit, fn.__name__
+        assert sig["gap"].default == args.gap == DEFAULT_GAP, fn.__name__

@@ -20,6 +20,12 @@ from .plan import Plan
 from .solve import solve as _solve  # before tenure/__init__ binds the name ``solve`` to the function below
 from .textutil import did_you_mean
 
+#: the command line's defaults (tenure plan, tenure compare / sweep), so a notebook gets the same plans:
+#: seconds of a capped solve, seconds per scenario's solve, and the stopping gap (fleet.driver.DEFAULT_GAP)
+PLAN_SECONDS = 30.0
+SCENARIO_SECONDS = 120.0
+GAP = 1e-4
+
 __all__ = ["load_case", "Case", "CaseError", "solve", "economic_life", "life_tables", "policy", "policy_frame",
            "compare", "sweep"]
 
@@ -63,7 +69,7 @@ def _options(solver: str, time_limit: float, gap: float) -> dict:
 # ---------------------------------------------------------------------------
 # solving
 # ---------------------------------------------------------------------------
-def solve(case: Case, *, solver: str = "highs", time_limit: float = 120.0, gap: float = 0.005,
+def solve(case: Case, *, solver: str = "highs", time_limit: float = PLAN_SECONDS, gap: float = GAP,
           progress: bool = False) -> Plan:
     """The least-present-cost plan of the whole fleet (docs/conventions.md, "Present cost").
 
@@ -154,8 +160,8 @@ def policy_frame(case: Case, class_: str, type_id: str | None = None):
 # ---------------------------------------------------------------------------
 # scenarios and sweeps (results as the scenario layer returns them)
 # ---------------------------------------------------------------------------
-def compare(case: Case, scenarios: Sequence[Any] | None = None, *, solver: str = "highs", time_limit: float = 120.0,
-            gap: float = 0.005, workers: int = 1, cluster: str | None = None, progress: bool = False):
+def compare(case: Case, scenarios: Sequence[Any] | None = None, *, solver: str = "highs", time_limit: float = SCENARIO_SECONDS,
+            gap: float = GAP, workers: int = 1, cluster: str | None = None, progress: bool = False):
     """Solve the base case and each scenario; regret and the decisions safe to commit now.
 
     ``scenarios``: scenario ids of the case, ``Scenario`` objects, or None for
@@ -178,7 +184,7 @@ def compare(case: Case, scenarios: Sequence[Any] | None = None, *, solver: str =
 
 
 def sweep(case: Case, *, vary: Sequence[str] = (), samples: int | None = None, seed: int = 0, uncertain=None,
-          solver: str = "highs", time_limit: float = 120.0, gap: float = 0.005, workers: int = 1,
+          solver: str = "highs", time_limit: float = SCENARIO_SECONDS, gap: float = GAP, workers: int = 1,
           cluster: str | None = None, progress: bool = False):
     """Present cost over a grid (``vary``: ``"PATH=LOW:HIGH:STEPS"`` strings or ``Axis`` objects) or ``samples`` Monte Carlo draws.
 
