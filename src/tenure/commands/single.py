@@ -102,7 +102,8 @@ def _rebuild_lives(case, chosen, year: int, usage) -> dict:
         if usage is not None and t.usage_reference is None:
             raise UsageError(f"--usage {usage:g}: type {t.id!r} has no usage_reference in {case.source}")
         if usage is not None or t.overhaul is not None:
-            out[t.id] = rebuild_life(t, case.study.discount_rate, case.study.start_year, year, usage)
+            out[t.id] = rebuild_life(t, case.study.discount_rate, case.study.start_year, year, usage,
+                                     tax_rate=case.study.tax_rate)
     return out
 
 
