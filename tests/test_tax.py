@@ -4,8 +4,9 @@ What each check is measured against is named beside it:
 
 - **IRS Publication 946**, Appendix A, Table A-1 (MACRS GDS, half-year convention), and the
   method the table is built from (200 %/150 % declining balance switching to straight line);
-- **published worked examples** (Newnan et al.; Ross, Westerfield & Jordan), each saying what is
-  from memory;
+- **published worked examples** (Sullivan, Wicks & Koelling: the forklift's before- and after-tax
+  economic life and a defender's after-tax investment value; Newnan et al.; Ross, Westerfield &
+  Jordan), each saying what was read in a copy and what is from memory;
 - **numpy-financial** (npv, pmt, irr) on after-tax cash flows tabulated year by year, the
   after-tax cash-flow table method of the engineering-economy texts (Sullivan, Wicks & Koelling);
 - **hand computation** of book value and recapture on units sold mid-schedule;
@@ -179,9 +180,9 @@ def _after_tax_eac_by_atcf_table(P, mv, om, rates, tau, i):
 
 def test_after_tax_economic_life_equals_the_atcf_table_method():
     """An invented loader (MACRS 5-year, 25 % tax, 10 % after-tax rate): the after-tax EAC of every
-    holding period equals the ATCF-table method priced by numpy-financial, to the cent. No printed
-    after-tax economic-life example could be recalled with certainty, so the check follows the
-    texts' method with numpy-financial as the reference instead of a printed figure."""
+    holding period equals the ATCF-table method priced by numpy-financial, to the cent (the texts'
+    method with numpy-financial as the reference; the printed after-tax economic life of Sullivan,
+    Wicks & Koelling's Example 9-9 is checked below)."""
     P, tau, i = 120000.0, 0.25, 0.10
     mv = [90000.0, 70000.0, 54000.0, 42000.0, 33000.0, 26000.0, 21000.0, 17000.0]
     om = [9000.0, 10500.0, 13000.0, 16500.0, 21000.0, 26500.0, 33000.0, 40500.0]
@@ -596,6 +597,28 @@ def test_life_prints_the_after_tax_table_of_the_demo(capsys):
     assert "After-tax economic life of pickup" in out and "straight line 6 years, salvage 10%" in out
     assert f"economic life {lt.economic_life} years, least EAC {lt.min_eac:,.2f}" in out
     assert "EAC shield" in out
+
+
+def test_life_usage_prints_the_after_tax_rebuild_comparison(capsys, tmp_path):
+    """`life --usage` on an after-tax case with an overhaul prints rebuild_life's after-tax figures
+    (checked by hand in tests/test_usage_overhaul.py) and says they are after tax."""
+    from casekit import to_toml
+    from tenure.case import build_case
+    from tenure.rebuild import rebuild_life
+
+    doc = {"study": {"title": "rebuild", "start_year": Y0, "horizon": 2, "discount_rate": 0.10, "tax_rate": 0.3},
+           "asset_type": [{"id": "m", "class": "m", "price": 100, "max_age": 4, "om": {"first": 10, "gradient": 10},
+                           "salvage": [50, 40, 32, 25, 20, 16], "usage_reference": 1000,
+                           "depreciation": {"method": "straight-line", "life": 4},
+                           "overhaul": {"cost": 20, "ages": [3, 3], "om_age_after": 1, "adds_years": 2}}],
+           "unit": [{"id": "M", "type": "m", "age": 3}]}
+    path = tmp_path / "rebuild.toml"
+    path.write_text(to_toml(doc))
+    rl = rebuild_life(build_case(doc).type("m"), 0.10, Y0, Y0, 1000.0, tax_rate=0.3)
+    code, out, _ = _cli(capsys, "life", path, "--usage", 1000)
+    assert code == 0
+    assert "after tax at 30.0% (the overhaul capitalised and depreciated)" in out
+    assert f"least EAC {rl.min_with:,.2f} per year" in out and f"least EAC {rl.min_without:,.2f}" in out
 
 
 def test_life_compare_tax_shows_both_lives(capsys):

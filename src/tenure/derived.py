@@ -28,6 +28,11 @@ common practice):
 - overhaul arc (k, r, a) → (k+1, r_o(a_o = a), a+1): the overhaul cost at k
   (capital, constant start-year money) plus the O&M of the year after it at k+1.
 
+With ``[study] tax_rate`` the arcs are after tax (``tenure.tax.arc_cash``,
+docs/conventions.md, "Income tax"): depreciation by years in service, not by
+usage, and the overhaul capitalised and depreciated by the type's method from
+the year it is done.
+
 Usage levels are rounded to the nearest point of a grid of 1 % of the unit's type's
 ``usage_reference`` (down when rounding up would shorten the unit's usage-limited max age); when a class has more than :data:`MAX_LEVELS` distinct
 levels the grid is widened (2 %, 5 %, 10 %, 20 %, 50 %) until it has at most that many.

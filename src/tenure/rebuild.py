@@ -34,7 +34,7 @@ class RebuildLife:
 
     ``eac_without[N−1]`` [money/year] for N = 1 … ``max_age``; ``eac_with[(a_o, N)]`` for
     each allowed overhaul age and holding period; ``best_with`` the (a_o, N) of least EAC with
-    the overhaul (None without an overhaul option).
+    the overhaul (None without an overhaul option); ``tax_rate`` set when the EACs are after tax.
     """
 
     type: str
@@ -47,13 +47,15 @@ class RebuildLife:
     eac_with: dict
     best_with: tuple[int, int] | None
     min_with: float | None
+    tax_rate: float | None = None
 
     def to_dict(self) -> dict:
         return {"type": self.type, "year": self.year, "usage": self.usage, "max_age": self.max_age,
                 "eac_without": [float(x) for x in self.eac_without], "economic_life_without": self.life_without,
                 "min_eac_without": self.min_without,
                 "best_with_overhaul": None if self.best_with is None else
-                {"overhaul_age": self.best_with[0], "years": self.best_with[1], "eac": self.min_with}}
+                {"overhaul_age": self.best_with[0], "years": self.best_with[1], "eac": self.min_with},
+                **({} if self.tax_rate is None else {"tax_rate": self.tax_rate})}
 
 
 def _pw(t: AssetType, rate: float, start_year: int, year: int, usage, n: int, ao: int | None,
@@ -105,4 +107,4 @@ def rebuild_life(t: AssetType, rate: float, start_year: int, year: int | None = 
     best = min(with_, key=lambda key: (with_[key], key)) if with_ else None
     return RebuildLife(type=t.id, year=year, usage=usage, max_age=m, eac_without=eac0, life_without=best0 + 1,
                        min_without=float(eac0[best0]), eac_with=with_, best_with=best,
-                       min_with=None if best is None else float(with_[best]))
+                       min_with=None if best is None else float(with_[best]), tax_rate=tax_rate)

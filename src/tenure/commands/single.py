@@ -65,9 +65,9 @@ def cmd_life(args) -> int:
             print(taxnote.life_text_after_tax(lt, f"After-tax economic life of {lt.type} ({t.class_}), bought "
                                                   f"{year}, rate {case.study.discount_rate:.2%}, tax "
                                                   f"{tax_rate:.1%}, {taxnote.depreciation_label(t)}{note}"))
-            continue
-        print(text.life_text(lt, f"Economic life of {lt.type} ({t.class_}), bought {year}, "
-                                 f"rate {case.study.discount_rate:.2%}{_rate_note(case)}{note}"))
+        else:
+            print(text.life_text(lt, f"Economic life of {lt.type} ({t.class_}), bought {year}, "
+                                     f"rate {case.study.discount_rate:.2%}{_rate_note(case)}{note}"))
         if lt.type in rebuilt:
             from ..report.overhauls import rebuild_text
 
