@@ -350,6 +350,22 @@ def test_recost_after_tax_under_the_continuing_end_value_equals_the_solve():
     assert abs(sc.recost(plan.to_dict(), before).cost - plan.present_cost) > 100.0
 
 
+@pytest.mark.parametrize("tax_rate", [None, 0.25])
+def test_recost_prices_the_carbon_of_the_continuing_end_as_the_solve(tax_rate):
+    # source: docs/conventions.md (priced tonnes are paid like O&M, also by the endless chain and the
+    # held unit of the "continuing" end value). The recost once left them out of the end value: 82,852
+    # against the solve's 100,129 before tax on this case; before and after tax they now agree.
+    doc = continuing_doc()
+    doc["study"]["carbon_price"] = 50.0
+    doc["asset_type"][0]["emissions"] = 20.0
+    if tax_rate is not None:
+        doc["study"]["tax_rate"] = tax_rate
+        doc["asset_type"][0]["depreciation"] = {"method": "straight-line", "life": 5}
+    case = build_case(doc)
+    plan = solve(case)
+    assert abs(sc.recost(plan.to_dict(), case).cost - plan.present_cost) < 0.005
+
+
 # ---------------------------------------------------------------------------
 # compare and regret
 # ---------------------------------------------------------------------------

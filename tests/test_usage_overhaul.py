@@ -304,7 +304,8 @@ def test_after_tax_plans_with_usage_and_overhaul_recost_to_the_solved_cost():
              {"id": "B3", "type": "bus", "age": 4, "usage": 30000}]
     for end in ("salvage", "continuing"):
         doc = bus_doc(horizon=9, units=units, two_types=True)
-        doc["study"].update(tax_rate=0.25, end_value=end)
+        doc["study"].update(tax_rate=0.25, end_value=end, carbon_price=40.0)  # priced tonnes in the end value too
+        doc["asset_type"][0]["emissions"] = 30.0
         doc["asset_type"][0]["overhaul"]["cost"] = 15000  # cheap enough that the after-tax plans use it
         for t in doc["asset_type"]:
             t["depreciation"] = {"method": "macrs", "recovery_years": 5}

@@ -272,7 +272,7 @@ def _continuing_end(case: Case, class_: str, rows, sale: np.ndarray, v: np.ndarr
     best = None
     for t in case.types_of(class_):
         if t.buyable(y_end - 1):
-            c, _ = life.capitalised_chain_cost(t, i, y0, y_end, tax_rate=s.tax_rate)
+            c, _ = life.capitalised_chain_cost(t, i, y0, y_end, tax_rate=s.tax_rate, carbon_price=s.carbon_price)
             if best is None or c < best[0] - tie * abs(c):
                 best = (c, t.id)
     chain_cost, chain_type = best
@@ -282,7 +282,7 @@ def _continuing_end(case: Case, class_: str, rows, sale: np.ndarray, v: np.ndarr
         if ao < 0 and ratio(t, u) == 1.0 and row_max_age(t, u, False) == t.max_age:
             a = np.arange(t.max_age + 1)
             end[r, : t.max_age + 1] = life.continuing_costs(t, a, y_end - a, chain_cost, i, y0, y_end,
-                                                            tax_rate=s.tax_rate) * v[H]
+                                                            tax_rate=s.tax_rate, carbon_price=s.carbon_price) * v[H]
         else:
             end[r] = (chain_cost - sale[H, r]) * v[H]
     return end, chain_cost, chain_type

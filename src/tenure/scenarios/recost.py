@@ -57,7 +57,8 @@ def _chain_costs(case: Case) -> dict[str, float]:
         best = None
         for t in case.types_of(cls):
             if t.buyable(y_end - 1):
-                c, _ = life.capitalised_chain_cost(t, s.discount_rate, s.start_year, y_end, tax_rate=s.tax_rate)
+                c, _ = life.capitalised_chain_cost(t, s.discount_rate, s.start_year, y_end, tax_rate=s.tax_rate,
+                                                   carbon_price=s.carbon_price)
                 if best is None or c < best:
                     best = c
         if best is not None:
@@ -216,7 +217,7 @@ def _end_cost(case: Case, t, a: int, oh, u, chain_cost) -> float:
         return chain_cost - mv
     a_end = min(a, t.max_age)
     return life.continuing_cost(t, a_end, y_end - a_end, chain_cost, s.discount_rate, y0, y_end,
-                                tax_rate=s.tax_rate)
+                                tax_rate=s.tax_rate, carbon_price=s.carbon_price)
 
 
 def _budget_breaks(case: Case, capital, proceeds, buys, broken: Counter) -> None:
