@@ -22,9 +22,12 @@ import math
 
 import networkx as nx
 import numpy as np
+import numpy_financial as npf
 import pytest
 
-from tenure import chain, curves
+from tenure import chain, curves, life
+from tenure.rebuild import rebuild_life
+from tenure.scenarios.recost import recost
 from tenure.solve import solve
 from tenure.case import CaseError, build_case
 from tenure.report.tables import units_csv
@@ -234,6 +237,99 @@ def test_hand_worked_rebuild_versus_replace():
     sol = chain.backward(chain.build_class_graph(build_case(doc), "m"))
     assert sol.value[0, 0, 3] == pytest.approx(60.562, abs=1e-3)
     assert sol.policy[0, 0, 3] == 0
+
+
+# ---------------------------------------------------------------------------
+# after tax: usage rows and a capitalised overhaul (docs/conventions.md, "Income tax")
+# ---------------------------------------------------------------------------
+def _taxed_m(cost=20, tau=0.3):
+    return {"study": {"start_year": Y0, "horizon": 2, "discount_rate": 0.10, "tax_rate": tau},
+            "asset_type": [{"id": "m", "class": "m", "price": 100, "max_age": 4, "om": {"first": 10, "gradient": 10},
+                            "salvage": [50, 40, 32, 25, 20, 16],
+                            "depreciation": {"method": "straight-line", "life": 4},
+                            "overhaul": {"cost": cost, "ages": [3, 3], "om_age_after": 1, "adds_years": 2}}],
+            "unit": [{"id": "M", "type": "m", "age": 3}]}
+
+
+def test_hand_worked_rebuild_versus_replace_after_tax():
+    """The unit of the test above after tax: τ = 30 %, straight line over 4 years (25 a year of the
+    basis 100, the price in its purchase year); the overhaul (cost 20) is capitalised and depreciated
+    the same way from the year it is done (5 a year), hand computation, v = 1/1.1:
+      rebuild, keep:    20 + (0.7·20 − 0.3·(25 + 5))·v + (0.7·30 − 0.3·(0 + 5))·v²
+                        − [20 − 0.3·(20 − (0 + 20·(1 − 2/4)))]·v² = 20 + 5v + 19.5v² − 17v² = 26.612
+      replace, keep:    100 − [32 − 0.3·(32 − 25)] + (0.7·10 − 0.3·25)·v + (0.7·20 − 0.3·25)·v²
+                        − [40 − 0.3·(40 − 50)]·v² = 70.1 − 0.5v − 36.5v² = 39.480
+      keep, replace:    (0.7·40 − 0.3·25 + 100 − [25 − 0.3·25])·v − (0.5 + 57.5)·v² = 45.702
+      replace, replace: 70.1 + (−0.5 + 100 − 57.5)·v − 58v² = 60.348
+      rebuild, replace: 20 + (5 + 100 − [25 − 0.3·(25 − 15)])·v − 58v² = 47.521
+    The rebuild wins (as before tax); at a rebuild cost of 40 it costs
+    40 + 3.5v + (18 − 20)v² = 41.529 and replacing (39.480) wins."""
+    g = chain.build_class_graph(build_case(_taxed_m()), "m")
+    sol = chain.backward(g)
+    assert sol.value[0, 0, 3] == pytest.approx(26.611570, abs=1e-6)
+    assert [s.action for s in chain.follow(sol, 0, 3)] == [chain.OVERHAUL, chain.KEEP]
+    v = 1 / 1.1
+    oh = int(g.overhaul_to[0, 3])
+    assert g.overhaul_pw[0, 0, 3] == pytest.approx(20 + 5 * v)  # capital at 0, year after it at 1
+    assert g.book[2, oh, 5] == pytest.approx(10.0)  # unit written off, the overhaul half
+    assert g.sale_pw[1, oh, 4] == pytest.approx(22 * v)  # book 0 + 15: a loss, a credit of 0.9
+    assert g.sale_pw[0, 0, 3] == pytest.approx(29.9)
+    sol = chain.backward(chain.build_class_graph(build_case(_taxed_m(cost=40)), "m"))
+    assert sol.value[0, 0, 3] == pytest.approx(39.480165, abs=1e-6)
+    assert sol.policy[0, 0, 3] == 0
+
+
+def test_usage_row_after_tax_scales_om_not_depreciation():
+    """A bus at 80,000 km/year (1.6 × the reference): the after-tax keep arc of service year 2 is
+    (1 − τ)·1.6·om(2) − τ·d_2·B, the depreciation on the calendar (MACRS is by year in service, IRS
+    Pub 946, not by usage), the basis B the price of its purchase year 100,000·1.02⁻¹; the sale at
+    age 2 is the value at 1.6 × the age less τ·(MV − book)."""
+    doc = bus_doc(units=[{"id": "B", "type": "bus", "age": 1, "usage": 80000}])
+    doc["study"]["tax_rate"] = 0.25
+    doc["asset_type"][0]["depreciation"] = {"method": "macrs", "recovery_years": 5}
+    g = chain.build_class_graph(build_case(doc), "bus")
+    r = g.start_row("bus", 80000.0)
+    basis = 100000 * 1.02 ** -1
+    om = (8000 + 3500) * 1.6 * 1.01 ** -1
+    assert g.keep_pw[0, r, 1] == pytest.approx((0.75 * om - 0.25 * 0.32 * basis) / 1.06)
+    mv = 100000 * 1.02 * 0.8 ** 3.2  # sold at time 1 (prices of 2031), equivalent age 3.2
+    assert g.sale_pw[1, r, 2] == pytest.approx((mv - 0.25 * (mv - basis * 0.48)) / 1.06)
+
+
+def test_after_tax_plans_with_usage_and_overhaul_recost_to_the_solved_cost():
+    """The recursion (graph tables) and the per-unit recost (tenure.curves and tenure.tax) agree to
+    the cent on an after-tax bus class with usage levels and an overhaul the plan uses; both end
+    values. Two independent routes through the rules of docs/conventions.md."""
+    units = [{"id": "B1", "type": "bus", "age": 2}, {"id": "B2", "type": "bus", "age": 3, "usage": 80000},
+             {"id": "B3", "type": "bus", "age": 4, "usage": 30000}]
+    for end in ("salvage", "continuing"):
+        doc = bus_doc(horizon=9, units=units, two_types=True)
+        doc["study"].update(tax_rate=0.25, end_value=end, carbon_price=40.0)  # priced tonnes in the end value too
+        doc["asset_type"][0]["emissions"] = 30.0
+        doc["asset_type"][0]["overhaul"]["cost"] = 15000  # cheap enough that the after-tax plans use it
+        for t in doc["asset_type"]:
+            t["depreciation"] = {"method": "macrs", "recovery_years": 5}
+        case = build_case(doc)
+        plan = solve(case)
+        events = [e for u in plan.to_dict()["units"] for e in u["events"]]
+        assert any(e.get("action") == "overhaul" for e in events), end
+        assert abs(recost(plan.to_dict(), case).cost - plan.present_cost) < 0.005, end
+
+
+def test_rebuild_life_after_tax_by_hand_and_equal_to_life_without_overhaul():
+    """`life --usage` after tax: the m type bought new, overhauled at 3 and held 5 years, τ = 30 %,
+    straight line over 4 years, i = 10 %: yearly after-tax costs −0.5, 6.5, 13.5, then
+    0.7·20 − 0.3·(25 + 5) = 5 and 0.7·30 − 0.3·5 = 19.5, the overhaul 20 at 3, the sale
+    20 − 0.3·(20 − 10) = 17 at 5 (hand computation); EAC by numpy-financial. Without the overhaul
+    the EAC equals tenure.life's after-tax table."""
+    case = build_case(_taxed_m())
+    t = case.type("m")
+    rl = rebuild_life(t, 0.10, Y0, Y0, None, tax_rate=0.3)
+    flows = [-100.0, 0.5, -6.5, -13.5 - 20.0, -5.0, -19.5 + 17.0]
+    eac = npf.pmt(0.10, 5, npf.npv(0.10, flows))
+    assert rl.eac_with[(3, 5)] == pytest.approx(eac, rel=1e-12)
+    lt = life.life_table(t, 0.10, Y0, tax_rate=0.3)
+    assert rl.eac_without == pytest.approx(lt.eac_total, rel=1e-12)
 
 
 # ---------------------------------------------------------------------------

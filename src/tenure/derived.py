@@ -28,6 +28,11 @@ common practice):
 - overhaul arc (k, r, a) → (k+1, r_o(a_o = a), a+1): the overhaul cost at k
   (capital, constant start-year money) plus the O&M of the year after it at k+1.
 
+With ``[study] tax_rate`` the arcs are after tax (``tenure.tax.arc_cash``,
+docs/conventions.md, "Income tax"): depreciation by years in service, not by
+usage, and the overhaul capitalised and depreciated by the type's method from
+the year it is done.
+
 Usage levels are rounded to the nearest point of a grid of 1 % of the unit's type's
 ``usage_reference`` (down when rounding up would shorten the unit's usage-limited max age); when a class has more than :data:`MAX_LEVELS` distinct
 levels the grid is widened (2 %, 5 %, 10 %, 20 %, 50 %) until it has at most that many.
@@ -39,7 +44,7 @@ import math
 
 import numpy as np
 
-from . import curves, life, money
+from . import curves, life, money, tax
 from .model import AssetType, Case
 
 #: most distinct usage levels (jobs) per class the graph and the fleet program carry
@@ -169,12 +174,6 @@ def build_derived_graph(case: Case, class_: str, usages=None):
     rows = rows_of(case, class_, usages)
     jobs = tuple(usages) if usages is not None else class_jobs(case, class_)
     T = len(rows)
-    if s.tax_rate is not None:
-        from .case import CaseError, Problem
-
-        raise CaseError([Problem(case.source, "study.tax_rate", f"class {class_!r} has usage levels or an overhaul: "
-                                 "the after-tax analysis does not cover them; drop tax_rate, or usage and overhaul, "
-                                 "for this class")])
     max_age = np.array([row_max_age(t, u, ao >= 0) for _, u, t, ao in rows])
     ids = {t.id for _, _, t, _ in rows}
     # an overdue inventory unit (age past max_age) is a starting state that can only be sold at time 0
@@ -205,17 +204,23 @@ def build_derived_graph(case: Case, class_: str, usages=None):
     cp = s.carbon_price
     sellable = ages[None, :] >= np.array([t.min_age for _, _, t, _ in rows])[:, None]
     v = np.asarray(money.pf(i, np.arange(H + 1)))
-    # priced tonnes are paid at the end of each service year, like O&M (docs/conventions.md)
-    keep_pw = (om_keep + cp * tonnes_keep) * v[1:, None, None]
-    buy_pw = np.where(buyable, price * v[:H, None] + (om_new + cp * tonnes_new) * v[1:, None], np.inf)
-    sale_pw = value * v[:, None, None]
-    ov_pw = np.where(ov_to[None] >= 0, ov_cost * v[:H, None, None]
-                     + (om_ov + cp * np.where(np.isfinite(tonnes_keep), tonnes_keep, 0.0)) * v[1:, None, None], np.inf)
+    # priced tonnes are paid at the end of each service year, like O&M (docs/conventions.md); with a tax
+    # rate they are deducted like O&M, and the overhaul is capital depreciated from the year it is done
+    keep_cash, new_cash, sale_cash = om_keep + cp * tonnes_keep, om_new + cp * tonnes_new, value
+    ov_cash, book = om_ov + cp * np.where(np.isfinite(tonnes_keep), tonnes_keep, 0.0), None
+    if s.tax_rate is not None:
+        keep_cash, new_cash, sale_cash, book, ov_cash = tax.arc_cash(
+            case, [t for _, _, t, _ in rows], keep_cash, new_cash, value, valid,
+            overhauled_at=[ao for _, _, _, ao in rows], om_overhaul=ov_cash)
+    keep_pw = keep_cash * v[1:, None, None]
+    buy_pw = np.where(buyable, price * v[:H, None] + new_cash * v[1:, None], np.inf)
+    sale_pw = sale_cash * v[:, None, None]
+    ov_pw = np.where(ov_to[None] >= 0, ov_cost * v[:H, None, None] + ov_cash * v[1:, None, None], np.inf)
     chain_cost = chain_type = None
     if s.end_value == "salvage":
         end_pw = -sale_pw[H]
     else:
-        end_pw, chain_cost, chain_type = _continuing_end(case, class_, rows, value, v, TIE)
+        end_pw, chain_cost, chain_type = _continuing_end(case, class_, rows, sale_cash, v, TIE)
     end_pw = np.where(valid, end_pw, np.inf)
     types = case.types_of(class_)
     labels = tuple(_label(u, t, ao) for _, u, t, ao in rows)
@@ -227,7 +232,8 @@ def build_derived_graph(case: Case, class_: str, usages=None):
                       base=np.array([types.index(t) for _, _, t, _ in rows]),
                       overhauled_at=np.array([ao for _, _, _, ao in rows]), overhaul_to=ov_to,
                       overhaul_cost=ov_cost, om_overhaul=om_ov, overhaul_pw=ov_pw, labels=labels, sellable=sellable,
-                      tonnes_keep=tonnes_keep, tonnes_new=tonnes_new, carbon_price=cp)
+                      tonnes_keep=tonnes_keep, tonnes_new=tonnes_new, carbon_price=cp, tax_rate=s.tax_rate,
+                      book=book)
 
 
 def _label(u, t: AssetType, ao: int) -> str:
@@ -256,25 +262,27 @@ def _overhaul_tables(rows, H: int, A1: int, y0: int, max_age: np.ndarray):
     return to, cost, om_ov
 
 
-def _continuing_end(case: Case, class_: str, rows, value: np.ndarray, v: np.ndarray, tie: float):
-    """End costs under "continuing": reference rows as in ``chain``; other rows are sold at the end and
-    the endless best chain starts (an upper bound on keeping them a while longer)."""
+def _continuing_end(case: Case, class_: str, rows, sale: np.ndarray, v: np.ndarray, tie: float):
+    """End costs under "continuing": reference rows as in ``chain``; other rows are sold at the end
+    (``sale``: the proceeds, after tax when the case is) and the endless best chain starts (an upper
+    bound on keeping them a while longer)."""
     s = case.study
     y0, i, H = s.start_year, s.discount_rate, s.horizon
     y_end = y0 + H
     best = None
     for t in case.types_of(class_):
         if t.buyable(y_end - 1):
-            c, _ = life.capitalised_chain_cost(t, i, y0, y_end)
+            c, _ = life.capitalised_chain_cost(t, i, y0, y_end, tax_rate=s.tax_rate, carbon_price=s.carbon_price)
             if best is None or c < best[0] - tie * abs(c):
                 best = (c, t.id)
     chain_cost, chain_type = best
-    T, A1 = len(rows), value.shape[2]
+    T, A1 = len(rows), sale.shape[2]
     end = np.full((T, A1), np.inf)
     for r, (_, u, t, ao) in enumerate(rows):
         if ao < 0 and ratio(t, u) == 1.0 and row_max_age(t, u, False) == t.max_age:
             a = np.arange(t.max_age + 1)
-            end[r, : t.max_age + 1] = life.continuing_costs(t, a, y_end - a, chain_cost, i, y0, y_end) * v[H]
+            end[r, : t.max_age + 1] = life.continuing_costs(t, a, y_end - a, chain_cost, i, y0, y_end,
+                                                            tax_rate=s.tax_rate, carbon_price=s.carbon_price) * v[H]
         else:
-            end[r] = (chain_cost - value[H, r]) * v[H]
+            end[r] = (chain_cost - sale[H, r]) * v[H]
     return end, chain_cost, chain_type

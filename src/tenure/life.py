@@ -268,7 +268,7 @@ def capitalised_chain_cost(t: AssetType, rate: float, start_year: int, year: int
 
 
 def continuing_cost(held: AssetType, age: int, vintage: int, chain_cost: float, rate: float, start_year: int,
-                    year: int, tax_rate: float | None = None) -> float:
+                    year: int, tax_rate: float | None = None, carbon_price: float = 0.0) -> float:
     """Least present cost, at time ``year``, of a held unit under the "continuing" end value [money].
 
     The unit of type ``held`` and ``age`` is kept ``n`` more years
@@ -280,10 +280,11 @@ def continuing_cost(held: AssetType, age: int, vintage: int, chain_cost: float, 
 
     with every market value valued at ``year``'s prices.  With ``tax_rate``,
     ``c`` is the after-tax O&M less the depreciation shield of the unit's own
-    vintage and ``S`` the after-tax sale value (docs/conventions.md).
+    vintage and ``S`` the after-tax sale value (docs/conventions.md); ``carbon_price`` [money/t] adds
+    the unit's priced tonnes to ``c``.
     """
     return float(continuing_costs(held, np.array([age]), vintage_of(year, np.array([age])), chain_cost, rate,
-                                  start_year, year, tax_rate=tax_rate)[0])
+                                  start_year, year, tax_rate=tax_rate, carbon_price=carbon_price)[0])
 
 
 def vintage_of(year: int, age):

@@ -160,34 +160,72 @@ def sale_tax_pw(t: AssetType, tax_rate: float, market_value, age, vintage, start
     return np.asarray(tax_on_sale(market_value, bv, tax_rate)) * np.asarray(discount)
 
 
-def arc_cash(case: Case, types, om_keep, om_new, value, valid):
+def overhaul_book(t: AssetType, since):
+    """Book value of a unit's capitalised overhaul ``since`` completed years after it [money].
+
+    ``C·(1 − Σ_{j ≤ since} d_j)`` with ``C`` the overhaul cost and ``d_j`` the
+    type's own depreciation (docs/conventions.md, "Income tax": an overhaul is
+    an improvement depreciated as separate property of the unit's class,
+    from the year it is done; IRS Publication 946, "Improvements"); 0 for a
+    type without an overhaul.
+    """
+    cost = 0.0 if t.overhaul is None else t.overhaul.cost
+    out = cost * np.asarray(book_fraction(t.depreciation, since))
+    return out if out.ndim else float(out)
+
+
+def overhaul_shield(t: AssetType, tax_rate: float, service_year):
+    """Tax shield of the overhaul's depreciation in its service year ``j`` [money]: ``τ·d_j·C``."""
+    cost = 0.0 if t.overhaul is None else t.overhaul.cost
+    out = tax_rate * cost * np.asarray(fraction(t.depreciation, service_year))
+    return out if out.ndim else float(out)
+
+
+def arc_cash(case: Case, types, om_keep, om_new, value, valid, overhauled_at=None, om_overhaul=None):
     """After-tax cash of every arc (docs/conventions.md, "Income tax"), undiscounted [money].
 
     Returns ``keep_cash (H, T, A+1)`` = (1−τ)·O&M − τ·d_(a+1)·B paid at k+1,
     ``new_cash (H, T)`` = the same for service year 1 of a unit bought at k,
     ``sale_cash (H+1, T, A+1)`` = MV − τ·(MV − BV_a) received at k, and the
     book values ``book (H+1, T, A+1)``; the basis ``B`` is the type's price in
-    the vintage ``start_year + k − a``.
+    the vintage ``start_year + k − a``.  ``types`` has one entry per row (a
+    type may repeat, as for the usage rows of ``tenure.derived``); the O&M
+    arguments are before tax.
+
+    With ``overhauled_at`` (per row, −1: not overhauled) a row overhauled at
+    age a_o also carries the overhaul's depreciation: ``− τ·d_(a+1−a_o)·C`` on
+    its keep arcs and ``C·(1 − Σ_{j≤a−a_o} d_j)`` in its book value; with
+    ``om_overhaul (H, T, A+1)`` (the before-tax O&M of the year after an
+    overhaul done at age a) a fifth table ``overhaul_cash`` is returned:
+    (1−τ)·O&M − τ·(d_(a+1)·B + d_1·C) paid at k+1 (the cost C itself is
+    capital, paid at k with no tax effect then).
     """
     s = case.study
     tau, y0, H = s.tax_rate, s.start_year, s.horizon
     ages = np.arange(valid.shape[1])
     kk = np.arange(H + 1)
     vint = (y0 + kk)[:, None] - ages[None, :]
+    ao = np.full(len(types), -1) if overhauled_at is None else np.asarray(overhauled_at)
     keep = np.empty_like(om_keep)
     sale = np.empty_like(value)
     book = np.empty_like(value)
     new = np.empty_like(om_new)
+    ov = None if om_overhaul is None else np.empty_like(om_overhaul)
     with np.errstate(invalid="ignore"):  # inf O&M marks arcs that do not exist; they stay inf
         for j, t in enumerate(types):
             keep[:, j] = keep_cash(t, tau, om_keep[:, j], ages[None, :] + 1, vint[:H], y0)
             new[:, j] = keep_cash(t, tau, om_new[:, j], 1, y0 + kk[:H], y0)
-            book[:, j] = np.where(valid[j][None, :], book_value(t, ages[None, :], vint, y0), 0.0)
+            bv = book_value(t, ages[None, :], vint, y0)
+            if ao[j] >= 0:
+                since = np.maximum(ages - ao[j], 0)[None, :]
+                keep[:, j] -= overhaul_shield(t, tau, since + 1)
+                bv = bv + overhaul_book(t, since)
+            book[:, j] = np.where(valid[j][None, :], bv, 0.0)
             sale[:, j] = value[:, j] - tax_on_sale(value[:, j], book[:, j], tau)
+            if ov is not None:
+                ov[:, j] = keep_cash(t, tau, om_overhaul[:, j], ages[None, :] + 1, vint[:H], y0) \
+                    - overhaul_shield(t, tau, 1)
     keep = np.where(np.isfinite(om_keep), keep, np.inf)
-    return keep, new, sale, book
-
-
-# ---------------------------------------------------------------------------
-# backward recursion
-# ---------------------------------------------------------------------------
+    if ov is None:
+        return keep, new, sale, book
+    return keep, new, sale, book, ov

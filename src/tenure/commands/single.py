@@ -65,9 +65,9 @@ def cmd_life(args) -> int:
             print(taxnote.life_text_after_tax(lt, f"After-tax economic life of {lt.type} ({t.class_}), bought "
                                                   f"{year}, rate {case.study.discount_rate:.2%}, tax "
                                                   f"{tax_rate:.1%}, {taxnote.depreciation_label(t)}{note}"))
-            continue
-        print(text.life_text(lt, f"Economic life of {lt.type} ({t.class_}), bought {year}, "
-                                 f"rate {case.study.discount_rate:.2%}{_rate_note(case)}{note}"))
+        else:
+            print(text.life_text(lt, f"Economic life of {lt.type} ({t.class_}), bought {year}, "
+                                     f"rate {case.study.discount_rate:.2%}{_rate_note(case)}{note}"))
         if lt.type in rebuilt:
             from ..report.overhauls import rebuild_text
 
@@ -102,7 +102,8 @@ def _rebuild_lives(case, chosen, year: int, usage) -> dict:
         if usage is not None and t.usage_reference is None:
             raise UsageError(f"--usage {usage:g}: type {t.id!r} has no usage_reference in {case.source}")
         if usage is not None or t.overhaul is not None:
-            out[t.id] = rebuild_life(t, case.study.discount_rate, case.study.start_year, year, usage)
+            out[t.id] = rebuild_life(t, case.study.discount_rate, case.study.start_year, year, usage,
+                                     tax_rate=case.study.tax_rate)
     return out
 
 

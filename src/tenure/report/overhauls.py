@@ -57,6 +57,8 @@ def overhaul_lines(plan) -> list[str]:
 def rebuild_text(r: RebuildLife) -> str:
     """The economic life at this usage without the overhaul, and the best schedule with it."""
     at = "the reference usage" if r.usage is None else f"usage {r.usage:,.0f} per year"
+    if r.tax_rate is not None:
+        at += f", after tax at {r.tax_rate:.1%} (the overhaul capitalised and depreciated)"
     out = [f"at {at}: max age {r.max_age}; without overhaul: economic life {r.life_without} years, "
            f"least EAC {r.min_without:,.2f} per year"]
     if r.best_with is not None:

@@ -4,7 +4,9 @@
 unit's replacements in the same years with the same types, costs from
 :mod:`tenure.curves` under that case, timed as in ``docs/conventions.md``)
 and lists the rules it breaks there (caps, purchase limits, max ages, types
-that cannot be bought).  :func:`regret_table` re-costs every scenario's plan
+that cannot be bought).  A case with ``tax_rate`` is re-costed after tax
+(docs/conventions.md, "Income tax"): the present cost the solve reports.
+:func:`regret_table` re-costs every scenario's plan
 under every scenario: regret of plan *i* under scenario *j* is its cost
 there less the least cost of any plan that can be carried out under *j*
 (common practice: the minimax-regret rule of decision analysis under
@@ -21,7 +23,7 @@ from typing import Mapping, Sequence
 
 import numpy as np
 
-from .. import curves, derived, life
+from .. import curves, derived, life, tax
 from ..model import Case, Overhaul
 from .tasks import round2 as _r
 
@@ -58,7 +60,8 @@ def _chain_costs(case: Case) -> dict[str, float]:
         best = None
         for t in case.types_of(cls):
             if t.buyable(y_end - 1):
-                c, _ = life.capitalised_chain_cost(t, s.discount_rate, s.start_year, y_end)
+                c, _ = life.capitalised_chain_cost(t, s.discount_rate, s.start_year, y_end, tax_rate=s.tax_rate,
+                                                   carbon_price=s.carbon_price)
                 if best is None or c < best:
                     best = c
         if best is not None:
@@ -74,7 +77,7 @@ def _unit_cost(case: Case, row, events, v: np.ndarray, grids: dict, chain_costs:
     """Present cost [money, time 0] of one unit's fixed schedule under ``case``; adds its capital,
     proceeds and purchases by year and the rules it breaks to ``books``."""
     s = case.study
-    y0, H, cp = s.start_year, s.horizon, s.carbon_price  # priced tonnes are paid with the O&M
+    y0, H = s.start_year, s.horizon
     capital, proceeds, buys, broken = books
     types = {t.id: t for t in case.types}
     t, a = types[row.type], row.age
@@ -88,10 +91,10 @@ def _unit_cost(case: Case, row, events, v: np.ndarray, grids: dict, chain_costs:
         y = y0 + k
         if y in ovh:
             ov = _overhaul_of(t, a, oh, y, broken)
-            total += v[k] * ov.cost + v[k + 1] * (curves.om(t, ov.om_age_after + 1, y - a, y0)
-                                                  + cp * curves.tonnes(t, y - a, y0)) * derived.ratio(t, u)
+            oh = a
+            total += v[k] * ov.cost + v[k + 1] * _year_cash(case, t, a, oh, ov, u, y)
             capital[k] += ov.cost
-            oh, a = a, a + 1
+            a += 1
         elif y in ev:
             new = types.get(ev[y])
             if new is None:
@@ -101,22 +104,48 @@ def _unit_cost(case: Case, row, events, v: np.ndarray, grids: dict, chain_costs:
             if not new.buyable(y):
                 broken[f"{y}: buys {new.id}, which can be bought only {_window(new)}"] += 1
             p = curves.price(new, y, y0)
-            mv = float(derived.value_at(t, a, y, y0, derived.ratio(t, u)))
-            total += v[k] * (p - mv) + v[k + 1] * (curves.om(new, 1, y, y0)
-                                                   + cp * curves.tonnes(new, y, y0)) * derived.ratio(new, u)
+            total += v[k] * (p - _sale_cash(case, t, a, oh, u, y)) + v[k + 1] * _year_cash(case, new, 0, None,
+                                                                                            None, u, y)
             capital[k] += p
-            proceeds[k] += mv
+            proceeds[k] += float(derived.value_at(t, a, y, y0, derived.ratio(t, u)))
             buys[k][new.class_] += 1
             t, a, oh = new, 1, None
         else:
             top = derived.row_max_age(t, u, oh is not None)
             if a >= top:
                 broken[f"{y}: keeps a {t.id} at age {a}, its max age is {top}"] += 1
-            served = a + 1 if oh is None else ov.om_age_after + a + 1 - oh
-            total += v[k + 1] * (curves.om(t, served, y - a, y0) + cp * curves.tonnes(t, y - a, y0)) \
-                * derived.ratio(t, u)
+            total += v[k + 1] * _year_cash(case, t, a, oh, ov, u, y)
             a += 1
     return total + v[H] * _end_cost(case, t, a, oh, u, chain_costs.get(t.class_))
+
+
+def _year_cash(case: Case, t, a: int, oh, ov, u, y: int) -> float:
+    """Cost of the year ``y`` of a ``t`` of age ``a`` at its start (service year a+1), paid at its end
+    [money]: O&M and priced tonnes by the usage ratio; after an overhaul at age ``oh`` the O&M of
+    year ``om_age_after + a + 1 − oh``.  After tax (docs/conventions.md, "Income tax") less tax, less
+    the depreciation shields of the unit (its own vintage's price) and of a capitalised overhaul."""
+    s = case.study
+    y0, cp = s.start_year, s.carbon_price  # priced tonnes are paid with the O&M
+    served = a + 1 if oh is None else ov.om_age_after + a + 1 - oh
+    cash = (curves.om(t, served, y - a, y0) + cp * curves.tonnes(t, y - a, y0)) * derived.ratio(t, u)
+    if s.tax_rate is None:
+        return float(cash)
+    cash = tax.keep_cash(t, s.tax_rate, cash, a + 1, y - a, y0)
+    if oh is not None:
+        cash -= tax.overhaul_shield(t, s.tax_rate, a + 1 - oh)
+    return float(cash)
+
+
+def _sale_cash(case: Case, t, a: int, oh, u, y: int) -> float:
+    """Proceeds of selling a ``t`` of age ``a`` in ``y`` [money]: its market value (at the usage's
+    equivalent age); after tax less ``τ·(MV − book value)``, the book value of the unit and of an
+    overhaul done at age ``oh``."""
+    s = case.study
+    mv = float(derived.value_at(t, a, y, s.start_year, derived.ratio(t, u)))
+    if s.tax_rate is None:
+        return mv
+    book = tax.book_value(t, a, y - a, s.start_year) + (0.0 if oh is None else tax.overhaul_book(t, a - oh))
+    return mv - float(tax.tax_on_sale(mv, book, s.tax_rate))
 
 
 def recost(plan_dict: Mapping, case: Case) -> Recost:
@@ -180,17 +209,18 @@ def _overhaul_of(t, a: int, oh, y: int, broken: Counter) -> Overhaul:
 
 def _end_cost(case: Case, t, a: int, oh, u, chain_cost) -> float:
     """End value of holding a ``t`` of age ``a`` at the end [money at the end year, a cost]: minus its
-    market value, or (continuing) its continuing cost; a unit off the reference usage or overhauled is
-    sold and followed by the best chain, as in ``tenure.derived``."""
+    sale proceeds (after tax when the case is), or (continuing) its continuing cost; a unit off the
+    reference usage or overhauled is sold and followed by the best chain, as in ``tenure.derived``."""
     s = case.study
     y0, y_end = s.start_year, s.start_year + s.horizon
-    mv = float(derived.value_at(t, a, y_end, y0, derived.ratio(t, u)))
+    mv = _sale_cash(case, t, a, oh, u, y_end)
     if s.end_value == "salvage":
         return -mv
     if oh is not None or derived.ratio(t, u) != 1.0 or derived.row_max_age(t, u, False) != t.max_age:
         return chain_cost - mv
     a_end = min(a, t.max_age)
-    return life.continuing_cost(t, a_end, y_end - a_end, chain_cost, s.discount_rate, y0, y_end)
+    return life.continuing_cost(t, a_end, y_end - a_end, chain_cost, s.discount_rate, y0, y_end,
+                                tax_rate=s.tax_rate, carbon_price=s.carbon_price)
 
 
 def _budget_breaks(case: Case, capital, proceeds, buys, broken: Counter) -> None:
