@@ -133,6 +133,9 @@ def run_layer(doc: dict, time_limit: float, workdir: Path, extra: list | None = 
     wall = time.perf_counter() - t0
     if r.returncode not in (0, 3):
         raise RuntimeError(f"tenure plan failed ({r.returncode}):\n{r.stderr[-2000:]}")
+    if not (out / "plan.json").exists():  # exit 3 with no plan at all (no plan found, even with extra capital)
+        return {"status": "no plan", "wall": wall, "solve": None, "first": None, "t1": None, "t05": None,
+                "gap": None, "cost": None, "columns": None, "rows": None, "exit": r.returncode}
     plan = json.loads((out / "plan.json").read_text(encoding="utf-8"))
     st = plan.get("stats", {})
     hist = st.get("gap_history", [])
