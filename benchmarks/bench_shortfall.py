@@ -71,6 +71,9 @@ def run(doc: dict, limit: float, folder: Path) -> dict:
     wall = time.perf_counter() - t0
     if r.returncode not in (0, 3):
         raise RuntimeError(f"tenure plan failed ({r.returncode}):\n{r.stderr[-2000:]}")
+    if not (out / "plan.json").exists():  # no plan at all, even with extra capital, in the time
+        return {"status": "no plan", "exit": r.returncode, "wall": wall, "solve": None, "at_most": None,
+                "at_least": None, "least": False, "precheck": None, "years": 0}
     plan = json.loads((out / "plan.json").read_text(encoding="utf-8"))
     st = plan.get("stats", {})
     return {"status": plan["status"], "exit": r.returncode, "wall": wall, "solve": st.get("seconds"),
@@ -91,9 +94,9 @@ def table(rows: list[dict], m: dict) -> str:
            "| run | time limit [s] | status (exit) | pre-check | shortfall years | extra capital at most | "
            "at least | proven least | solve [s] | wall [s] |", "|---|---|---|---|---|---|---|---|---|---|"]
     for r in rows:
-        out.append(f"| {r['label']} | {r['limit']:g} | {r['status']} ({r['exit']}) | {'yes' if r['precheck'] else 'no'} "
+        out.append(f"| {r['label']} | {r['limit']:g} | {r['status']} ({r['exit']}) | {'—' if r['precheck'] is None else ('yes' if r['precheck'] else 'no')} "
                    f"| {r['years']} | {_m(r['at_most'])} | {_m(r['at_least'])} | {'yes' if r['least'] else 'no'} "
-                   f"| {r['solve']:.1f} | {r['wall']:.1f} |")
+                   f"| {'—' if r['solve'] is None else format(r['solve'], '.1f')} | {r['wall']:.1f} |")
     return "\n".join(out) + "\n"
 
 

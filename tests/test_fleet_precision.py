@@ -253,3 +253,29 @@ def test_elastic_windows_find_the_known_shortfall_and_the_lp_proves_it():
     assert res.status == "optimal"
     assert float(res.x[n0:].sum()) == pytest.approx(10000.0, abs=1e-6)
     assert res.bound == pytest.approx(10000.0, abs=1e-6)
+
+
+def test_elastic_start_without_windows_is_the_least_cost_flows_with_their_overspend(monkeypatch):
+    """When the windows run out of time, stage one still starts from a plan: the least-cost flows with
+    free extra capital, each year's extra its overspend (checked here row by row: every row of the
+    elastic program holds), so the integer program never starts cold."""
+    import numpy as np
+
+    from tenure.fleet import shortfall as sf
+    from tenure.fleet.program import build_program
+
+    case = build_case(forced_doc())
+    prog = build_program(case)
+    el, years = prog.with_elastic_caps()
+    n0, m = prog.n_cols, len(years)
+    integ = np.concatenate([np.ones(n0, dtype=np.int32), np.zeros(m, dtype=np.int32)])
+    stage1 = sf._with_cost(el, np.concatenate([np.zeros(n0), np.ones(m)]))
+    x = sf._overspend_start(stage1, integ, get_backend("highs"), el.cost)
+    assert x is not None and np.array_equal(x[:n0], np.round(x[:n0])) and np.all(x[n0:] >= 0)
+    act = el.matrix @ x
+    assert np.all(act >= el.row_lower - 1e-6) and np.all(act <= el.row_upper + 1e-6)
+    # the forced vans' 10,000 over the cap at least (hand arithmetic, test_known_shortfall_is_proven_least)
+    assert x[n0:].sum() >= 10000.0 - 1e-6
+    monkeypatch.setattr(sf, "window_plan", lambda *a, **k: None)
+    res = sf._least_extra(stage1, integ, get_backend("highs"), __import__("time").perf_counter() + 30, 1e-4, el.cost)
+    assert res.x is not None and float(res.x[n0:].sum()) == pytest.approx(10000.0, abs=1e-6)

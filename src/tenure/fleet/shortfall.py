@@ -69,7 +69,7 @@ def shortfall(case: Case, graphs, backend: type[Backend], time_limit: float, unc
     n0, m = prog.n_cols, len(years)
     integrality = np.concatenate([np.ones(n0, dtype=np.int32), np.zeros(m, dtype=np.int32)])
     stage1 = _with_cost(el, np.concatenate([np.zeros(n0), np.ones(m)]))
-    res = _least_extra(stage1, integrality, backend, t0 + max(0.6 * time_limit, 5.0), gap)
+    res = _least_extra(stage1, integrality, backend, t0 + max(0.6 * time_limit, 5.0), gap, el.cost)
     if res.x is None:
         if res.status == "infeasible":  # even unlimited capital does not help: a limit binds
             raise InfeasibleLimits()
@@ -90,10 +90,13 @@ def shortfall(case: Case, graphs, backend: type[Backend], time_limit: float, unc
     return Shortfall(extra=extra, x=x, prog=prog, proven=bound > 0.5, bound=bound, least=least)
 
 
-def _least_extra(stage1: CohortProgram, integrality, backend, deadline: float, gap: float) -> MIPResult:
+def _least_extra(stage1: CohortProgram, integrality, backend, deadline: float, gap: float,
+                 flow_cost: np.ndarray | None = None) -> MIPResult:
     """Stage 1: the least total extra capital.  The LP bound, then a plan by windows of years
-    (:mod:`tenure.fleet.windows`; the extra capital absorbs any overspend, so it finishes), then the
-    integer program from that plan while it is not proven least (within :data:`ABS_TOL` or ``gap``)."""
+    (:mod:`tenure.fleet.windows`; the extra capital absorbs any overspend, so only time stops it) or,
+    when the windows run out of time, the least-cost flows with the caps raised as far as they need
+    (``flow_cost``: the flows' present cost), then the integer program from that plan while it is
+    not proven least (within :data:`ABS_TOL` or ``gap``)."""
     be = backend(stage1, integrality)
     lp = be.solve_lp()
     if lp.status == "infeasible":  # even unlimited capital does not help
@@ -102,6 +105,8 @@ def _least_extra(stage1: CohortProgram, integrality, backend, deadline: float, g
     # the windows' own gap as the proof's: on this objective a window's slack is the total's
     start = window_plan(stage1, backend, time.perf_counter() + 0.8 * (deadline - time.perf_counter()),
                         integrality, gap=max(gap, 1e-6))
+    if start is None and flow_cost is not None:
+        start = _overspend_start(stage1, integrality, backend, flow_cost)
     if start is not None:
         total = float(stage1.cost @ start)
         if total - lp_bound <= max(ABS_TOL, gap * total):
@@ -114,6 +119,26 @@ def _least_extra(stage1: CohortProgram, integrality, backend, deadline: float, g
     if start is not None and float(stage1.cost @ start) < float(stage1.cost @ res.x):
         return MIPResult(res.status, start, bound)
     return MIPResult(res.status, res.x, bound)
+
+
+def _overspend_start(stage1: CohortProgram, integrality, backend, flow_cost: np.ndarray) -> np.ndarray | None:
+    """The least-cost flows when extra capital is free (the classes' flows are then a network, whose
+    LP optimum is whole units when no coupling rule binds), each year's extra set to its overspend;
+    None when that LP optimum is not whole."""
+    n0 = int(np.count_nonzero(integrality))
+    free = replace(stage1, cost=np.concatenate([flow_cost[:n0], np.zeros(stage1.n_cols - n0)]))
+    lp = backend(free, integrality).solve_lp()
+    if lp.x is None or np.any(np.abs(lp.x[:n0] - np.round(lp.x[:n0])) > 1e-7):
+        return None
+    x = lp.x.copy()
+    x[:n0] = np.round(x[:n0])
+    cap_rows = np.flatnonzero(stage1.matrix[:, n0:].getnnz(axis=1))
+    spend = stage1.matrix[cap_rows, :n0] @ x[:n0]
+    over = np.maximum(0.0, spend - stage1.row_upper[cap_rows])
+    cols = stage1.matrix[cap_rows, n0:].tocsr()
+    x[n0:] = 0.0
+    x[n0 + cols.indices] = over[np.repeat(np.arange(len(cap_rows)), np.diff(cols.indptr))]
+    return x
 
 
 def _cheapest_under(el, n0, m, years, extra, integrality, backend, time_limit, gap, start, fallback):
