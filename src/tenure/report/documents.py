@@ -8,6 +8,7 @@ atomically (``report.files``), so a failed run leaves no half-written file.
 
 from __future__ import annotations
 
+import contextlib
 from pathlib import Path
 
 import numpy as np
@@ -78,15 +79,12 @@ def write_all(plan, case: Case, out_dir, *, list_years: int = buylist.DEFAULT_YE
     is rendered instead (the one bar of :func:`write_plan_files`).
     """
     out = Path(out_dir)
-    with bar(2 if done is None else 0, "report", enabled=progress and done is None) as b:
-        if done is None:
-            def done(name: str) -> None:
-                b.set_postfix_str(name)
-                b.update()
+    with (bar(2, "report", enabled=progress) if done is None else contextlib.nullcontext()) as b:
+        step = done or (lambda name: (b.set_postfix_str(name), b.update()))
         page = plan_html(plan, case, list_years, by, run_id, warnings)
-        done("report.html")
+        step("report.html")
         book = plan_xlsx(plan, case, list_years, by, run_id, warnings)
-        done("plan.xlsx")
+        step("plan.xlsx")
     return [files.write_text(out / "report.html", page), files.write_bytes(out / "plan.xlsx", book)]
 
 
@@ -98,7 +96,7 @@ def write_plan_files(plan, case: Case, out_dir, *, list_years: int = buylist.DEF
     (summaries by ``by``); one progress bar over the six files, drawn on a terminal after a second."""
     with bar(6, "writing", enabled=progress) as b:
         def done(name: str) -> None:
-            b.set_postfix_str(f"{name} written")
+            b.set_postfix_str(f"{name} done")
             b.update()
 
         paths = tables.write_plan(plan, out_dir, run_id=run_id, list_years=list_years, group_by=group_by, done=done)
