@@ -1,6 +1,6 @@
 """One ``tenure plan`` run split into timed stages, in a fresh process (used by ``bench_writing.py``).
 
-Run as ``python benchmarks/writing_stages.py CASE OUT TIME_LIMIT``; prints one JSON object of seconds
+Run as ``python benchmarks/writing_stages.py CASE OUT TIME_LIMIT [GAP]``; prints one JSON object of seconds
 per stage. The stages are the steps ``tenure.commands.single.cmd_plan`` takes, called one by one
 with the same arguments, so the sum is the command's work without argument parsing:
 
@@ -17,6 +17,8 @@ with the same arguments, so the sum is the command's work without argument parsi
 
 from __future__ import annotations
 
+import contextlib
+import io
 import json
 import sys
 import time
@@ -24,9 +26,8 @@ from pathlib import Path
 
 T0 = time.perf_counter()
 from tenure import api, cli  # noqa: E402,F401  (the command imports both)
-from tenure.commands.common import _warn  # noqa: E402
-from tenure.commands.common import PLAN_NAMES  # noqa: E402
-from tenure.report import buylist, documents, files, html, tables  # noqa: E402  # noqa: E402
+from tenure.commands.common import PLAN_NAMES, _warn  # noqa: E402
+from tenure.report import buylist, documents, files, html, tables  # noqa: E402
 from tenure.report.transaction import OutputFolder  # noqa: E402
 
 GAP = 1e-4  # the plan command's default
@@ -55,9 +56,6 @@ def stages(case_path: str, out: str, time_limit: float, gap: float = GAP) -> dic
         return r
 
     case = clock("load", api.load_case, case_path)
-    import contextlib
-    import io
-
     with contextlib.redirect_stdout(io.StringIO()):
         warnings = clock("warnings", _warn, case)
     plan = clock("solve", api.solve, case, time_limit=time_limit, gap=gap)
@@ -68,8 +66,8 @@ def stages(case_path: str, out: str, time_limit: float, gap: float = GAP) -> dic
         clock("plan.json", lambda: files.write_json(d / "plan.json", tables.plan_dict(plan, tx.run_id)))
         clock("units.csv", lambda: files.write_text(d / "units.csv", tables.units_csv(plan)))
         clock("years.csv", lambda: files.write_text(d / "years.csv", tables.years_csv(plan)))
-        bl = buylist.buy_list(plan, buylist.DEFAULT_YEARS, case.group_by)
-        clock("buy-list.csv", lambda: files.write_text(d / "buy-list.csv", buylist.buy_list_csv(bl)))
+        clock("buy-list.csv", lambda: files.write_text(d / "buy-list.csv", buylist.buy_list_csv(
+            buylist.buy_list(plan, buylist.DEFAULT_YEARS, case.group_by))))
         page = clock("html page", documents.plan_html, plan, case, run_id=tx.run_id, warnings=warnings)
         clock("html page", files.write_text, d / "report.html", page)
         t["html page"] -= t["html charts"]  # the charts are their own stage
