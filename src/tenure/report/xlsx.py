@@ -8,7 +8,9 @@ total row), ``units`` (one row per replacement of each unit), ``policy``
 Money cells hold the plan's figures rounded to the cent, exactly as in
 ``plan.json``, and are shown with a thousands format; the currency is the
 case's constant start-year currency (docs/conventions.md).  The workbook is
-built in memory; :mod:`tenure.report.documents` writes it atomically.
+built in memory by the write-only writer :mod:`tenure.report.sheetxml` (each row
+becomes XML text as it is put, so a 10,000-unit plan holds no cell objects);
+:mod:`tenure.report.documents` writes it atomically.
 """
 
 from __future__ import annotations
