@@ -170,7 +170,6 @@ def _life_compare_tax(case, chosen, year, args) -> int:
 
 def cmd_plan(args) -> int:
     from ..report import documents
-    from ..report.tables import write_plan
 
     _seconds(args.time_limit)
     if not (0 <= args.gap < 1):
@@ -185,9 +184,8 @@ def cmd_plan(args) -> int:
     with output as tx:
         plan = run_interruptible(api.solve, case, solver=args.solver, time_limit=args.time_limit, gap=args.gap,
                                  progress=not args.quiet)
-        write_plan(plan, tx.staging, run_id=tx.run_id, list_years=args.list_years, group_by=group)
-        documents.write_all(plan, case, tx.staging, run_id=tx.run_id, warnings=warnings, list_years=args.list_years,
-                            by=by, progress=not args.quiet)
+        documents.write_plan_files(plan, case, tx.staging, run_id=tx.run_id, warnings=warnings,
+                                   list_years=args.list_years, by=by, group_by=group, progress=not args.quiet)
         written = _commit(tx, {"case": case.source, "status": plan.status})
     print(text.plan_summary(plan, case, str(args.out), [p.name for p in written]))
     print(f"run id {tx.run_id}")

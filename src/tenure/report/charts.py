@@ -198,6 +198,61 @@ def message_svg(chart_id: str, title: str, message: str, width_in: float = 10.0,
 # ---------------------------------------------------------------------------
 # what each unit is in each year
 # ---------------------------------------------------------------------------
+@dataclass(frozen=True)
+class FleetState:
+    """What each unit of ``plan.units`` is in each planning year, as arrays of shape (units, horizon).
+
+    ``type_code[u, k]`` indexes ``types`` (−1: not in service) and ``age[u, k]`` is the age during the
+    year (−1: not in service); see :func:`unit_years` for the convention.
+    """
+
+    types: tuple[str, ...]
+    type_code: np.ndarray
+    age: np.ndarray
+
+
+def fleet_state(plan, case: Case) -> FleetState:
+    """The type held and the age of every unit in every year, from the plan's events (no per-year loop).
+
+    Each unit starts a run of ages at year 0 (its start type and age) and again at each event other than
+    an overhaul (age 0 in the type bought, or out of service after a sale without a replacement); within a
+    run the age grows by one a year.
+    """
+    s = case.study
+    H, U = s.horizon, len(plan.units)
+    types = [t.id for t in case.types]
+    index = {t: j for j, t in enumerate(types)}
+    base_code = np.full((U, H), -1, dtype=np.int64)
+    base_age = np.full((U, H), -1, dtype=np.int64)
+    reset = np.zeros((U, H), dtype=bool)
+    reset[:, 0] = True
+    for i, u in enumerate(plan.units):
+        if u.start_type not in index:
+            index[u.start_type] = len(types)
+            types.append(u.start_type)
+        base_code[i, 0] = index[u.start_type]
+        base_age[i, 0] = -1 if u.start_age is None else u.start_age
+        for e in u.events:
+            k = e.year - s.start_year
+            if e.action == "overhaul" or not 0 <= k < H:  # an overhauled unit keeps its age
+                continue
+            reset[i, k] = True
+            if e.type:
+                if e.type not in index:
+                    index[e.type] = len(types)
+                    types.append(e.type)
+                base_code[i, k], base_age[i, k] = index[e.type], 0
+            else:
+                base_code[i, k], base_age[i, k] = -1, -1
+    ks = np.arange(H)
+    last = np.maximum.accumulate(np.where(reset, ks, 0), axis=1)   # the year each run started
+    rows = np.arange(U)[:, None]
+    start_age, code = base_age[rows, last], base_code[rows, last]
+    age = np.where(start_age >= 0, start_age + (ks - last), -1)
+    code = np.where(age >= 0, code, -1) if U else code
+    return FleetState(types=tuple(types), type_code=code, age=age)
+
+
 def unit_years(plan, case: Case) -> list[list[tuple[str, int]]]:
     """Per unit of ``plan.units``, per planning year: (type held, age during the year).
 
@@ -206,22 +261,9 @@ def unit_years(plan, case: Case) -> list[list[tuple[str, int]]]:
     kept from the year before is one year older (docs/conventions.md).  A unit not in
     service in a year (bought later, or sold without a replacement) has ("", −1) there.
     """
-    s = case.study
-    out = []
-    for u in plan.units:
-        by_year = {e.year: e for e in u.events}
-        t, a = u.start_type, (-1 if u.start_age is None else u.start_age)
-        row = []
-        for k in range(s.horizon):
-            y = s.start_year + k
-            if k > 0 and a >= 0:
-                a += 1
-            e = by_year.get(y)
-            if e is not None and e.action != "overhaul":  # an overhauled unit keeps its age
-                t, a = (e.type, 0) if e.type else ("", -1)
-            row.append((t, a))
-        out.append(row)
-    return out
+    st = fleet_state(plan, case)
+    names = list(st.types) + [""]   # code −1 → ""
+    return [[(names[c], a) for c, a in zip(cr, ar)] for cr, ar in zip(st.type_code.tolist(), st.age.tolist())]
 
 
 def type_colours(case: Case) -> dict[str, tuple[str, str]]:
@@ -305,31 +347,30 @@ def age_heatmap(plan, case: Case) -> str:
     s = case.study
     if not plan.units:
         return message_svg(cid, "Fleet age by year", "The plan has no unit schedule to draw.")
-    uy = unit_years(plan, case)
+    st = fleet_state(plan, case)
     counts: dict[str, int] = {}
     for u in plan.units:
         counts[u.class_] = counts.get(u.class_, 0) + 1
     # a page holds a few panels; a large fleet shows its largest classes (the caption says so)
     largest = sorted(counts, key=lambda c: -counts[c])[:MAX_PANELS]
     classes = [c for c in case.classes if c in largest]
+    unit_class = np.array([u.class_ for u in plan.units], dtype=object)
+    ks = np.broadcast_to(np.arange(s.horizon), st.age.shape)
     grids, max_ages = {}, {}
     for c in classes:
         types = case.types_of(c)
-        held = {t for u, row in zip(plan.units, uy) if u.class_ == c for t, _ in row} | \
-            {u.start_type for u in plan.units if u.class_ == c}
+        mine = unit_class == c
+        code, age = st.type_code[mine], st.age[mine]
+        held = {st.types[j] for j in np.unique(code[code >= 0])} | {u.start_type for u in plan.units if u.class_ == c}
         by_age: dict[int, list[str]] = {}
         for t in types:
             if t.id in held:
                 by_age.setdefault(t.max_age, []).append(t.id)
         max_ages[c] = sorted(by_age.items(), reverse=True)
-        top = max([t.max_age for t in types] + [a for u, row in zip(plan.units, uy) if u.class_ == c
-                                               for _, a in row if a >= 0])
+        top = max([t.max_age for t in types] + ([int(age.max())] if (age >= 0).any() else []))
         g = np.zeros((top + 1, s.horizon), dtype=int)
-        for u, row in zip(plan.units, uy):
-            if u.class_ == c:
-                for k, (_, a) in enumerate(row):
-                    if a >= 0:
-                        g[a, k] += 1
+        on = age >= 0
+        np.add.at(g, (age[on], ks[mine][on]), 1)
         grids[c] = g
     vmax = max(int(g.max()) for g in grids.values()) or 1
     heights = [max(1.7, 0.15 * g.shape[0] + 0.8) for g in grids.values()]
@@ -385,8 +426,13 @@ def types_chart(plan, case: Case) -> str:
     s = case.study
     if not plan.units:
         return message_svg(cid, "Units in service by type", "The plan has no unit schedule to draw.")
-    uy = unit_years(plan, case)
-    counts = [Counter(row[k][0] for row in uy) for k in range(s.horizon)]
+    st = fleet_state(plan, case)
+    held = st.type_code[st.type_code >= 0]
+    ks = np.broadcast_to(np.arange(s.horizon), st.type_code.shape)[st.type_code >= 0]
+    per = np.zeros((len(st.types), s.horizon), dtype=int)   # units of each type in service, by year
+    np.add.at(per, (held, ks), 1)
+    code = {t: j for j, t in enumerate(st.types)}
+    counts = [Counter({t: int(per[code[t], k]) for t in st.types if per[code[t], k]}) for k in range(s.horizon)]
     ids = [t.id for t in case.types if any(c[t.id] for c in counts)]
     colours = type_colours(case)
     years = np.array(list(s.years))

@@ -8,6 +8,7 @@ atomically (``report.files``), so a failed run leaves no half-written file.
 
 from __future__ import annotations
 
+import contextlib
 from pathlib import Path
 
 import numpy as np
@@ -16,7 +17,7 @@ from ..life import life_table
 from ..model import Case
 from ..progress import bar
 from ..scenarios import Comparison
-from . import buylist, charts, files, grouped_html, groups, html, notes, xlsx
+from . import buylist, charts, files, grouped_html, groups, html, notes, tables, xlsx
 
 
 def life_tables(case: Case) -> list:
@@ -68,23 +69,39 @@ def plan_xlsx(plan, case: Case, list_years: int = buylist.DEFAULT_YEARS, by: str
 
 
 def write_all(plan, case: Case, out_dir, *, list_years: int = buylist.DEFAULT_YEARS, by: str | None = None,
-              run_id: str | None = None, warnings=(), progress: bool = True) -> list[Path]:
+              run_id: str | None = None, warnings=(), progress: bool = True, done=None) -> list[Path]:
     """Write ``report.html`` and ``plan.xlsx`` into ``out_dir``; returns the paths.
 
     Both documents are rendered before either is written.  ``run_id`` names the output set
     (``report.transaction``); ``warnings`` are the case's plausibility warnings, listed in both.
     On large fleets rendering takes a while: a progress bar (``tenure.progress``) shows the
-    step on a terminal.
+    step on a terminal, unless ``done(name)`` is given, which is then called after each document
+    is rendered instead (the one bar of :func:`write_plan_files`).
     """
     out = Path(out_dir)
-    with bar(2, "report", enabled=progress) as b:
-        b.set_postfix_str("report.html")
+    with (bar(2, "report", enabled=progress) if done is None else contextlib.nullcontext()) as b:
+        step = done or (lambda name: (b.set_postfix_str(name), b.update()))
         page = plan_html(plan, case, list_years, by, run_id, warnings)
-        b.update()
-        b.set_postfix_str("plan.xlsx")
+        step("report.html")
         book = plan_xlsx(plan, case, list_years, by, run_id, warnings)
-        b.update()
+        step("plan.xlsx")
     return [files.write_text(out / "report.html", page), files.write_bytes(out / "plan.xlsx", book)]
+
+
+def write_plan_files(plan, case: Case, out_dir, *, list_years: int = buylist.DEFAULT_YEARS, by: str | None = None,
+                     group_by: str | None = None, run_id: str | None = None, warnings=(),
+                     progress: bool = True) -> list[Path]:
+    """Every file of ``tenure plan`` into ``out_dir`` (the staging folder of its transaction): plan.json,
+    units.csv, years.csv and buy-list.csv (grouped by ``group_by``), then report.html and plan.xlsx
+    (summaries by ``by``); one progress bar over the six files, drawn on a terminal after a second."""
+    with bar(6, "writing", enabled=progress) as b:
+        def done(name: str) -> None:
+            b.set_postfix_str(f"{name} done")
+            b.update()
+
+        paths = tables.write_plan(plan, out_dir, run_id=run_id, list_years=list_years, group_by=group_by, done=done)
+        return paths + write_all(plan, case, out_dir, list_years=list_years, by=by, run_id=run_id,
+                                 warnings=warnings, progress=progress, done=done)
 
 
 def compare_html(compare: Comparison, case: Case, run_id: str | None = None) -> str:

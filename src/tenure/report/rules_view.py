@@ -110,18 +110,18 @@ RULES_HEAD = ("year", "units in service", "capital (constant)", "capital (nomina
 
 
 def rules_sheet(wb, plan, case: Case) -> None:
-    """A "rules" sheet in workbook ``wb`` (only when the case has such rules)."""
+    """A "rules" sheet in workbook ``wb`` (a ``sheetxml.Book``; only when the case has such rules)."""
     if not relevant(case):
         return
-    ws = wb.create_sheet("rules")
+    ws = wb.sheet("rules")
     ws.append(list(RULES_HEAD))
     for y in plan.years:
         ws.append([y.year, y.in_service, round(y.capital, 2), round(y.capital_nominal, 2),
                    None if y.cap is None else round(y.cap, 2), None if y.cap_nominal is None else round(y.cap_nominal, 2),
                    round(y.tonnes, 3), case.emission_cap_for(y.year), round(y.carbon, 2)])
-    ws.append([])
+    ws.skip()
     for line in summary_lines(case, plan):
         ws.append([line])
-    ws.freeze_panes = "A2"
-    for col in "ABCDEFGHI":
-        ws.column_dimensions[col].width = 18
+    ws.freeze = "A2"
+    for j in range(1, len(RULES_HEAD) + 1):
+        ws.width[j] = 18

@@ -76,16 +76,22 @@ def plan_dict(plan: Plan, run_id: str | None = None) -> dict:
 
 
 def write_plan(plan: Plan, out_dir: Path | str, run_id: str | None = None, *, list_years: int = buylist.DEFAULT_YEARS,
-               group_by: str | None = None) -> list[Path]:
+               group_by: str | None = None, done=None) -> list[Path]:
     """Write plan.json (with ``run_id`` when given), units.csv, years.csv and buy-list.csv into ``out_dir``;
     returns the paths.
 
     ``buy-list.csv`` covers the first ``list_years`` planning years, grouped by the kept column ``group_by``.
+    ``done(name)``, when given, is called after each file is written (a progress bar's step).
     """
     out = Path(out_dir)
-    rendered = {"plan.json": None, "units.csv": units_csv(plan), "years.csv": years_csv(plan),
-                "buy-list.csv": buylist.buy_list_csv(buylist.buy_list(plan, list_years, group_by))}
-    paths = [files.write_json(out / "plan.json", plan_dict(plan, run_id))]
-    for name in ("units.csv", "years.csv", "buy-list.csv"):
-        paths.append(files.write_text(out / name, rendered[name]))
+    steps = (("plan.json", lambda: files.write_json(out / "plan.json", plan_dict(plan, run_id))),
+             ("units.csv", lambda: files.write_text(out / "units.csv", units_csv(plan))),
+             ("years.csv", lambda: files.write_text(out / "years.csv", years_csv(plan))),
+             ("buy-list.csv", lambda: files.write_text(out / "buy-list.csv", buylist.buy_list_csv(
+                 buylist.buy_list(plan, list_years, group_by)))))
+    paths = []
+    for name, write in steps:
+        paths.append(write())
+        if done is not None:
+            done(name)
     return paths

@@ -8,90 +8,99 @@ total row), ``units`` (one row per replacement of each unit), ``policy``
 Money cells hold the plan's figures rounded to the cent, exactly as in
 ``plan.json``, and are shown with a thousands format; the currency is the
 case's constant start-year currency (docs/conventions.md).  The workbook is
-built in memory; :mod:`tenure.report.documents` writes it atomically.
+built in memory by the write-only writer :mod:`tenure.report.sheetxml` (each row
+becomes XML text as it is put, so a 10,000-unit plan holds no cell objects);
+:mod:`tenure.report.documents` writes it atomically.
 """
 
 from __future__ import annotations
 
-import io
 import math
 from collections import Counter
-from typing import Any, Sequence
-
-from openpyxl import Workbook
-from openpyxl.styles import Alignment, Font, PatternFill
-from openpyxl.utils import get_column_letter
+from collections.abc import Sequence
+from typing import Any
 
 from .. import __version__
 from ..chain import OVERHAUL
 from ..model import Case
 from ..textutil import cent
 from . import rules_view
+from .sheetxml import Align, Book, Fill, Font
 from .text import CAUTION
 
 MONEY = "#,##0;-#,##0"
 RATE = "0.00%"
 SHADOW = "0.0000"
 HEAD_FONT = Font(bold=True)
-HEAD_FILL = PatternFill("solid", fgColor="DCE9F2")   # a pale tint of Okabe–Ito blue #0072B2
+HEAD_FILL = Fill("DCE9F2")   # a pale tint of Okabe–Ito blue #0072B2
 SECTION_FONT = Font(bold=True, size=12, color="0072B2")
 TOTAL_FONT = Font(bold=True)
-
-
+HEAD_ALIGN = Align(vertical="top", wrap=True)
+CENTRE = Align(horizontal="center")
 
 
 class _Sheet:
-    """Writes rows into a worksheet and remembers the widest text of each column."""
+    """Writes rows into a sheet (``sheetxml.Sheet``) and remembers the widest text of each column."""
 
     def __init__(self, ws):
         self.ws = ws
-        self.row = 0
         self.width: Counter = Counter()
         self.heads: list[tuple[int, list[str]]] = []
+        self._memo: dict[tuple, list[int]] = {}
 
-    def put(self, values: Sequence[Any], fmt: dict[int, str] | None = None, font=None, fill=None) -> int:
-        self.row += 1
+    @property
+    def row(self) -> int:
+        return self.ws.row
+
+    def put(self, values: Sequence[Any], fmt: dict[int, str] | None = None, font=None, fill=None,
+            align: dict[int, Align] | None = None) -> int:
+        """One row; ``fmt`` and ``align`` map a 0-based column to its number format / alignment."""
+        if fmt or align:
+            key = (tuple(fmt.items()) if fmt else None, tuple(align.items()) if align else None, font, fill,
+                   len(values))
+            styles = self._memo.get(key)
+            if styles is None:   # rows of a sheet share a few layouts: look each up once
+                book, fmt, align = self.ws.book, fmt or {}, align or {}
+                styles = self._memo[key] = [book.style(fmt.get(j), font, fill, align.get(j))
+                                            for j in range(len(values))]
+        else:
+            styles = self.ws.book.style(None, font, fill)
+        width = self.width
         for j, v in enumerate(values, start=1):
-            c = self.ws.cell(row=self.row, column=j, value=v)
-            if isinstance(v, str):
-                c.data_type = "s"  # text from a case is never a formula, even when it starts with '='
-            if fmt and (j - 1) in fmt and v is not None:
-                c.number_format = fmt[j - 1]
-            if font is not None:
-                c.font = font
-            if fill is not None:
-                c.fill = fill
-            shown = len(f"{v:,.0f}") if isinstance(v, float) else len(str(v)) if v is not None else 0
-            self.width[j] = max(self.width[j], shown)
-        return self.row
+            if v is not None:
+                shown = len(f"{v:,.0f}") if isinstance(v, float) else len(str(v))
+                width[j] = max(width[j], shown)
+            elif j not in width:
+                width[j] = 0
+        return self.ws.append(values, styles)
 
     def head(self, values: Sequence[str], wrap_at: int = 18) -> int:
         """A header row; long headers wrap, so they widen a column to at most ``wrap_at`` characters."""
         before = dict(self.width)
-        r = self.put(values, font=HEAD_FONT, fill=HEAD_FILL)
+        r = self.put(values, font=HEAD_FONT, fill=HEAD_FILL, align={j: HEAD_ALIGN for j in range(len(values))})
         for j, v in enumerate(values, start=1):
-            self.ws.cell(row=r, column=j).alignment = Alignment(wrap_text=True, vertical="top")
             longest = max((len(w) for w in str(v).split()), default=0)
             self.width[j] = max(before.get(j, 0), longest + 1, min(wrap_at, len(str(v))))
         self.heads.append((r, [str(v) for v in values]))
         return r
 
     def blank(self):
-        self.row += 1
+        self.ws.skip()
 
     def finish(self, freeze: str | None = "A2", min_w: int = 8, max_w: int = 60, fixed: dict | None = None):
+        widths = self.ws.width
         for j, w in self.width.items():
-            self.ws.column_dimensions[get_column_letter(j)].width = max(min_w, min(max_w, w + 2))
+            widths[j] = max(min_w, min(max_w, w + 2))
         for j, w in (fixed or {}).items():
-            self.ws.column_dimensions[get_column_letter(j)].width = w
+            widths[j] = w
         for r, values in self.heads:   # wrapped headers: make the row tall enough
             lines = 1
             for j, v in enumerate(values, start=1):
-                w = self.ws.column_dimensions[get_column_letter(j)].width or 10
+                w = widths.get(j) or 10
                 lines = max(lines, math.ceil(len(v) / max(1.0, w - 1)))
-            self.ws.row_dimensions[r].height = 15 * min(lines, 4)
+            self.ws.height[r] = 15 * min(lines, 4)
         if freeze:
-            self.ws.freeze_panes = freeze
+            self.ws.freeze = freeze
 
 
 # ---------------------------------------------------------------------------
@@ -196,24 +205,26 @@ def policy_sheet(ws, case: Case, solutions: dict | None):
         sh.put(("no policy: no class holds units",))
         sh.finish()
         return
-    sh.put(("'·' keep the unit another year; a type id: sell the unit and buy that type. The policy ignores caps "
-            "and limits (the uncapped optimum).",))
+    sh.put((("'·' keep the unit another year; a type id: sell the unit and buy that type. The policy ignores "
+             "caps and limits (the uncapped optimum)."),))
+    centred = {j: CENTRE for j in range(1, s.horizon + 1)}
+    widths = [5] * s.horizon
     for cls, sol in solutions.items():
         g = sol.graph
+        # one label per action code (-1 keep, -2 overhaul, ≥ 0 the type bought): the table is looked up, not
+        # decided per cell
+        codes = {**{j: tid for j, tid in enumerate(g.types)}, KEEP: "·", OVERHAUL: "overhaul"}
         for t, tid in enumerate(g.types):
             sh.blank()
             sh.put((f"{cls}: held type {g.row_label(t)} (max age {int(g.max_age[t])})",), font=SECTION_FONT)
-            for a in range(0, int(g.max_age[t]) + 1):
-                cells = []
-                for k in range(g.horizon):
-                    act = int(sol.policy[k, t, a])
-                    cells.append("·" if act == KEEP else (g.types[act] if act >= 0 else "overhaul" if act == OVERHAUL else "—"))
-                sh.put([a] + cells)
-    for j in range(2, s.horizon + 2):
-        col = [ws.cell(row=r, column=j).value for r in range(3, sh.row + 1)]
-        sh.width[j] = max([len(str(v)) for v in col if v is not None] + [5])
-        for r in range(2, sh.row + 1):
-            ws.cell(row=r, column=j).alignment = Alignment(horizontal="center")
+            block = sol.policy[: g.horizon, t, : int(g.max_age[t]) + 1].T.tolist()   # rows age, columns year
+            for a, acts in enumerate(block):
+                cells = [codes.get(act, "—") for act in acts]
+                for k, c in enumerate(cells):
+                    widths[k] = max(widths[k], len(c))
+                sh.put([a] + cells, align=centred)
+    for k, w in enumerate(widths):
+        sh.width[k + 2] = w
     sh.width[1] = 10
     sh.finish(freeze="B2", min_w=5)
 
@@ -284,20 +295,15 @@ def workbook_bytes(plan, case: Case, solutions: dict | None = None, extra_sheets
                    warnings=()) -> bytes:
     """The whole ``plan.xlsx`` as bytes; ``extra_sheets`` are (title, fill(ws)) pairs added after "units";
     with the output set's ``run_id`` and the case's plausibility warnings."""
-    wb = Workbook()
-    summary_sheet(wb.active, plan, case, run_id)
-    wb.active.title = "summary"
-    years_sheet(wb.create_sheet("years"), plan, case)
-    units_sheet(wb.create_sheet("units"), plan, case)
+    wb = Book(title=case.study.title or "", creator=f"tenure {__version__}")
+    summary_sheet(wb.sheet("summary"), plan, case, run_id)
+    years_sheet(wb.sheet("years"), plan, case)
+    units_sheet(wb.sheet("units"), plan, case)
     for title, fill in extra_sheets:
-        fill(wb.create_sheet(title[:31]))
-    policy_sheet(wb.create_sheet("policy"), case, solutions)
-    assumptions_sheet(wb.create_sheet("assumptions"), case)
+        fill(wb.sheet(title[:31]))
+    policy_sheet(wb.sheet("policy"), case, solutions)
+    assumptions_sheet(wb.sheet("assumptions"), case)
     rules_view.rules_sheet(wb, plan, case)
     if warnings:
-        warnings_sheet(wb.create_sheet("warnings"), warnings)
-    wb.properties.creator = f"tenure {__version__}"
-    wb.properties.title = case.study.title
-    buf = io.BytesIO()
-    wb.save(buf)
-    return buf.getvalue()
+        warnings_sheet(wb.sheet("warnings"), warnings)
+    return wb.to_bytes()
