@@ -17,8 +17,13 @@ import numpy as np
 from ..model import Case
 from .backend import Backend
 from .program import CohortProgram
+from .yearmip import solve_years
 
 INF = math.inf
+#: the stack mode of a year decided by its own integer program (after the rounding modes 0–2)
+YEAR_MIP_MODE = 3
+#: how many years before a failed year are decided again with it, tried in turn
+WINDOWS = (0, 2, 5)
 
 
 def _floors(prog: CohortProgram, x: np.ndarray, k: int):
@@ -237,7 +242,7 @@ def _follow_mix(lp: np.ndarray, idx: np.ndarray, price: np.ndarray, n_buy: float
 
 
 def fix_and_relax(prog: CohortProgram, case: Case, be: Backend, x: np.ndarray, deadline: float, log=None,
-                  max_backtracks: int | None = None, partial: list | None = None):
+                  max_backtracks: int | None = None, partial: list | None = None, year_mip: bool = True):
     """Round the LP solution year by year, re-solving the LP for the later years.
 
     A year is rounded as the LP suggests first, then more eagerly (see
@@ -283,6 +288,14 @@ def fix_and_relax(prog: CohortProgram, case: Case, be: Backend, x: np.ndarray, d
                 break
             # undo this year's fixing and round more eagerly
             be.set_bounds(idx, lower[idx], upper[idx])
+        for back in WINDOWS if not fixed and year_mip and first_mode <= YEAR_MIP_MODE else ():
+            fixed, x = _fix_by_window(prog, be, stack, lower, upper, x, k, back, deadline)
+            if log:
+                y = case.study.start_year + k
+                log(f"year {y}: no rounding worked; the integer program of {y - back}–{y} "
+                    + ("decided them" if fixed else "found no point that keeps the later years feasible"))
+            if fixed:
+                break
         if fixed:
             k, first_mode = k + 1, 0
             continue
@@ -302,6 +315,41 @@ def fix_and_relax(prog: CohortProgram, case: Case, be: Backend, x: np.ndarray, d
         log(f"fix-and-relax needed {backtracks} backtrack(s)")
     _release(be, stack, lower, upper)
     return np.round(x)
+
+
+def _fix_by_window(prog: CohortProgram, be: Backend, stack: list, lower: np.ndarray, upper: np.ndarray,
+                   x: np.ndarray, k: int, back: int, deadline: float) -> tuple[bool, np.ndarray]:
+    """Years k−back … k from one integer program (:func:`~tenure.fleet.yearmip.solve_years`) when no
+    rounding of year k worked: the ``back`` years before k are taken off ``stack`` and decided again
+    with year k, the later years relaxed.  On success each year is fixed on the back end and pushed
+    on ``stack`` (mode ``YEAR_MIP_MODE``); otherwise the stack and the bounds are as they were.
+    Returns (fixed, the LP solution to go on from)."""
+    back = min(back, len(stack))
+    popped = stack[len(stack) - back:]
+    del stack[len(stack) - back:]
+    lo, up = lower.copy(), upper.copy()
+    for idx, v, _, _ in stack:
+        lo[idx], up[idx] = v, v
+    for idx, _, _, _ in popped:
+        be.set_bounds(idx, lower[idx], upper[idx])
+    got = solve_years(prog, type(be), lo, up, range(k - back, k + 1), deadline)
+    xn = None
+    if got is not None:
+        idx = np.concatenate([c for c, _ in got])
+        v = np.concatenate([v for _, v in got])
+        be.set_bounds(idx, v, v)
+        xn = be.solve_lp().x
+        if xn is None:
+            be.set_bounds(idx, lower[idx], upper[idx])
+    if xn is None:
+        for idx, v, _, _ in popped:
+            be.set_bounds(idx, v, v)
+        stack.extend(popped)
+        return False, x
+    x0 = popped[0][3] if popped else x
+    for c, v in got:
+        stack.append((c, v, YEAR_MIP_MODE, x0))
+    return True, xn
 
 
 def _release(be: Backend, stack: list, lower: np.ndarray, upper: np.ndarray) -> None:
