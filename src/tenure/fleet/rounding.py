@@ -17,6 +17,7 @@ import numpy as np
 from ..model import Case
 from .backend import Backend
 from .program import CohortProgram
+from .rules_rows import satisfies
 from .yearmip import solve_years
 
 INF = math.inf
@@ -276,8 +277,14 @@ def fix_and_relax(prog: CohortProgram, case: Case, be: Backend, x: np.ndarray, d
             changed = bool(np.any(np.abs(x[idx] - v) > 1e-7))
             be.set_bounds(idx, v, v)
             if not changed or k == H - 1:
-                stack.append((idx, v, eager, x.copy()))
-                x[idx] = v
+                xk = x.copy()
+                xk[idx] = v
+                # the last year has no later LP to check it: its rows are checked here
+                if changed and not satisfies(prog, xk):
+                    be.set_bounds(idx, lower[idx], upper[idx])
+                    continue
+                stack.append((idx, v, eager, x))
+                x = xk
                 fixed = True
                 break
             xn = be.solve_lp().x
