@@ -5,6 +5,9 @@
 2. The LP relaxation: a proven lower bound and the shadow price of each year's cap.
 3. Fix-and-relax by year, guided by the LP (:mod:`tenure.fleet.rounding`): a
    feasible plan whose gap against the LP bound is usually well under 0.5 %.
+   Years no rounding can fix get their own small integer programs
+   (:mod:`tenure.fleet.yearmip`); under emission caps it first runs on a guiding
+   program that keeps a reserve under each binding cap (:mod:`tenure.fleet.reserve`).
 4. If the gap is still above the target, the integer program from that plan as
    its start, for the time left.
 

@@ -248,8 +248,11 @@ def fix_and_relax(prog: CohortProgram, case: Case, be: Backend, x: np.ndarray, d
 
     A year is rounded as the LP suggests first, then more eagerly (see
     :func:`_round_year`) when the later years would become infeasible; when no
-    rounding of a year works, the year before is undone and rounded more
-    eagerly (at most ``max_backtracks`` times, default twice the horizon).
+    rounding of a year works (``year_mip`` True), the year is decided by its own
+    integer program, the later years relaxed (:mod:`tenure.fleet.yearmip`), and
+    failing that together with the ``WINDOWS`` years before it; when that fails
+    too, the year before is undone and rounded more eagerly (at most
+    ``max_backtracks`` times, default twice the horizon).
 
     Returns the integral solution vector, or None when no rounding is found
     (the MIP solver then takes over).  On failure, ``partial`` (a list, when given) receives the
