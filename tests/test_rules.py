@@ -35,6 +35,7 @@ from tenure.cli import main
 from tenure.fleet import rules_rows
 from tenure.fleet.backend import BACKENDS, get_backend
 from tenure.fleet.program import build_program
+from tenure.fleet.reserve import RESERVE_FRACTION, reserved
 from tenure.fleet.rounding import fix_and_relax
 from tenure.report.tables import write_plan
 from tenure.scenarios import case_with, coerce
@@ -320,6 +321,28 @@ def test_capped_emission_cap_plain_rounding_fails_year_programs_reach_the_enumer
     assert plan.provenance.method.startswith("fix-and-relax")
     assert service.broken_rules(case, plan) == []
     assert np.all(service.tonnes_by_year(case, plan)[1:] <= 100 + 1e-9)
+
+
+def test_reserve_under_a_binding_emission_cap_keeps_the_true_cap():
+    # the guiding program's LP cuts up to 0.2 % of the cap more (a reward per tonne held back), and
+    # its flows keep the real program's rows: a·x ≤ E − r with 0 ≤ r (arithmetic)
+    # (the three-bus fleet under 50 t from 2032 and a 300,000 cap: the 2032 cap has a shadow price)
+    case = build_case(rules_doc(emission_cap=[{"from": 2032, "tonnes": 50}], budget={"cap": 300000}))
+    prog = build_program(case)
+    lp = get_backend(BACKENDS[0])(prog).solve_lp()
+    guide = reserved(prog, lp.row_duals)
+    binding = [r for r, rr in prog.rule_rows if rr.kind == "emissions" and abs(lp.row_duals[r]) > 1e-9]
+    assert guide is not None and guide.n_cols == prog.n_cols + len(binding) > prog.n_cols
+    assert guide.upper[prog.n_cols:] == pytest.approx([RESERVE_FRACTION * 50] * len(binding))
+    assert np.all(guide.cost[prog.n_cols:] < 0)
+    xg = get_backend(BACKENDS[0])(guide).solve_lp().x
+    assert rules_rows.satisfies(prog, xg[:prog.n_cols])
+    tonnes = (prog.matrix @ xg[:prog.n_cols])[binding]
+    assert np.all(tonnes <= 50 - xg[prog.n_cols:] + 1e-6)
+    # the reward makes the LP hold the whole reserve back here
+    assert xg[prog.n_cols:] == pytest.approx(guide.upper[prog.n_cols:])
+    # no emission cap binds: no guiding program
+    assert reserved(prog, np.zeros(prog.n_rows)) is None
 
 
 # ---------------------------------------------------------------------------
