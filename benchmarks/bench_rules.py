@@ -10,7 +10,8 @@ The fleet is ``fleetgen.invented_fleet(1000, 20, seed 7)`` with the cap of ``ben
   bought, in the classes that have one;
 * an ``[[emission_cap]]``: either one cap from year 15 on at a fraction of the cap-only plan's
   tonnes that year, or one cap a year from year 10 on, each at a fraction of that year's tonnes
-  (the capital cap leaves little room to cut emissions: one cap a year at 0.99 has no plan).
+  (the capital cap leaves little room to cut emissions: one cap a year at 0.99, or one cap from
+  year 15 at 0.97, has no plan, proven: the LP relaxation has no point).
 
 Each case is run as ``tenure plan CASE --out DIR --quiet --time-limit 60`` in a subprocess (as in
 ``bench_fleet.py``); times come from ``plan.json`` ``stats``. Usage::
