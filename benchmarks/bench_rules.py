@@ -10,7 +10,8 @@ The fleet is ``fleetgen.invented_fleet(1000, 20, seed 7)`` with the cap of ``ben
   bought, in the classes that have one;
 * an ``[[emission_cap]]``: either one cap from year 15 on at a fraction of the cap-only plan's
   tonnes that year, or one cap a year from year 10 on, each at a fraction of that year's tonnes
-  (the capital cap leaves little room to cut emissions: one cap a year at 0.99 has no plan).
+  (the capital cap leaves little room to cut emissions: one cap a year at 0.99, or one cap from
+  year 15 at 0.97, has no plan, proven: the LP relaxation has no point).
 
 Each case is run as ``tenure plan CASE --out DIR --quiet --time-limit 60`` in a subprocess (as in
 ``bench_fleet.py``); times come from ``plan.json`` ``stats``. Usage::
@@ -40,6 +41,8 @@ RUNS = (("capital cap only", None, None, None, True),
         ("+ target 1.0", 1.0, None, None, True),
         ("+ emission cap 0.99 from year 15", None, 0.99, "flat", True),
         ("+ target 1.0 + emission cap 0.99 from year 15", 1.0, 0.99, "flat", True),
+        ("+ target 1.0 + emission cap 0.98 from year 15", 1.0, 0.98, "flat", True),
+        ("+ target 1.0 + emission cap 0.97 from year 15", 1.0, 0.97, "flat", True),
         ("+ target 1.0 + yearly emission caps 0.995 from year 10", 1.0, 0.995, "yearly", True),
         ("no capital cap, target 1.0 + yearly emission caps 0.97 from year 10", 1.0, 0.97, "yearly", False))
 
@@ -56,7 +59,7 @@ def with_emissions(doc: dict) -> dict:
 
 
 def rules_case(doc: dict, share, cap_fraction, tonnes_by_year, form="yearly") -> tuple[dict, list[str]]:
-    """The extra TOML blocks of one run."""
+    """The extra TOML blocks of one run (the emission caps by year index: :func:`caps_of`)."""
     newer = [t for t in doc["asset_type"] if t["id"].endswith("-b")]
     start = doc["study"]["start_year"]
     lines = []
@@ -71,6 +74,25 @@ def rules_case(doc: dict, share, cap_fraction, tonnes_by_year, form="yearly") ->
             lines += ["", "[[emission_cap]]", f"from = {start + k}", f"until = {start + k}",
                       f"tonnes = {round(cap_fraction * tonnes_by_year[k], 1)}"]
     return doc, lines
+
+
+def caps_of(cap_fraction, tonnes_by_year, form) -> dict[int, float]:
+    """Year index → emission cap [t] of one run, as :func:`rules_case` writes them."""
+    if cap_fraction is None:
+        return {}
+    if form == "flat":
+        return {k: round(cap_fraction * tonnes_by_year[15], 1) for k in range(15, len(tonnes_by_year))}
+    return {k: round(cap_fraction * tonnes_by_year[k], 1) for k in range(10, len(tonnes_by_year))}
+
+
+def binding(r: dict, caps: dict, tonnes_by_year) -> dict:
+    """How much the cap-only plan's tonnes exceed the caps (> 0: the cap binds) and how many tonnes
+    the run's plan emits less than the cap-only plan in the capped years [t]."""
+    out = {"over": sum(max(0.0, tonnes_by_year[k] - c) for k, c in caps.items()) if caps else None}
+    if caps and r.get("tonnes"):
+        out["cut"] = sum(tonnes_by_year[k] - r["tonnes"][k] for k in caps)
+        out["worst"] = max(r["tonnes"][k] - c for k, c in caps.items())
+    return out
 
 
 def run(doc: dict, extra: list[str], workdir: Path) -> dict:
@@ -96,25 +118,30 @@ def run_layer_from(path: Path, workdir: Path) -> dict:
     if r.returncode not in (0, 3):
         raise RuntimeError(f"tenure plan failed ({r.returncode}):\n{r.stderr[-2000:]}")
     if not (out / "plan.json").exists():
-        return {"status": "no plan", "wall": wall, "message": r.stderr.strip()[-300:]}
+        msg = r.stderr.strip()[-300:]
+        # "no plan meets …" is the rule check's proven verdict (the LP relaxation has no point);
+        # anything else is a search that ran out of time
+        status = "infeasible (proven)" if "no plan meets" in msg else "no plan found (not proven)"
+        return {"status": status, "wall": wall, "message": msg}
     plan = json.loads((out / "plan.json").read_text(encoding="utf-8"))
     st = plan.get("stats", {})
     t05 = next((t for t, g in st.get("gap_history", []) if g <= 0.005 + 1e-12), None)
     return {"status": plan["status"], "wall": wall, "solve": st.get("seconds"), "first": st.get("first_plan_seconds"),
             "t05": t05, "gap": plan.get("gap"), "columns": st.get("columns"), "rows": st.get("rows"),
             "method": (plan.get("provenance") or {}).get("method", plan.get("method")),
-            "tonnes_max": max(y["tonnes"] for y in plan["years"])}
+            "tonnes": [y["tonnes"] for y in plan["years"]]}
 
 
 def table(rows, m) -> str:
     head = ["run", "status", "first plan [s]", "≤ 0.5 % gap at [s]", "final gap", "solve [s]", "wall [s]",
-            "columns", "rows", "method"]
+            "cap-only plan over the caps [t]", "cut vs cap-only plan [t]", "columns", "rows", "method"]
     out = ["| " + " | ".join(head) + " |", "|" + "---|" * len(head)]
     for label, r in rows:
         def f(x, fmt="{:.1f}"):
             return "—" if x is None else fmt.format(x)
         out.append(f"| {label} | {r['status']} | {f(r.get('first'))} | {f(r.get('t05'))} | "
                    f"{f(r.get('gap'), '{:.3%}')} | {f(r.get('solve'))} | {f(r.get('wall'))} | "
+                   f"{f(r.get('over'))} | {f(r.get('cut'))} | "
                    f"{r.get('columns', '—')} | {r.get('rows', '—')} | {r.get('method', '')} |")
     return "\n".join(out)
 
@@ -135,8 +162,11 @@ def main(argv=None) -> int:
         d, extra = rules_case(d, share, frac, tonnes, form)
         with tempfile.TemporaryDirectory(prefix="tenure-bench-rules-") as tmp:
             r = run(d, extra, Path(tmp))
+        r.update(binding(r, caps_of(frac, tonnes, form), tonnes))
+        if r.get("worst") is not None and r["worst"] > 1e-6:
+            raise RuntimeError(f"{label}: the plan exceeds an emission cap by {r['worst']:.3f} t")
         rows.append((label, r))
-        print(label, r, file=sys.stderr, flush=True)
+        print(label, {k: v for k, v in r.items() if k != "tonnes"}, file=sys.stderr, flush=True)
     m = machine()
     md = table(rows, m)
     text = (f"# Benchmark: coupling rules on the 1,000-unit fleet\n\n"

@@ -22,6 +22,7 @@ import csv
 import itertools
 import json
 import math
+import time
 
 import numpy as np
 import numpy_financial as npf
@@ -31,6 +32,11 @@ from casekit import to_toml
 from tenure import chain, curves, life, service
 from tenure.case import CaseError, build_case
 from tenure.cli import main
+from tenure.fleet import rules_rows
+from tenure.fleet.backend import BACKENDS, get_backend
+from tenure.fleet.program import build_program
+from tenure.fleet.reserve import RESERVE_FRACTION, reserved
+from tenure.fleet.rounding import fix_and_relax
 from tenure.report.tables import write_plan
 from tenure.scenarios import case_with, coerce
 from tenure.solve import solve
@@ -286,6 +292,57 @@ def test_all_rules_together_under_a_nominal_cap_match_enumeration():
                     emission_cap=[{"from": 2033, "tonnes": 90}],
                     budget={"cap": 300000, "money": "nominal"})
     check_plan_equals_enumeration(doc, new_slots=1, sizes=sizes_of(3, 3, 4, 4))
+
+
+@pytest.mark.parametrize("backend", BACKENDS)
+def test_capped_emission_cap_plain_rounding_fails_year_programs_reach_the_enumerated_optimum(backend):
+    # four diesel/electric buses under a 200,000 gross cap a year and 100 t a year from 2031: the LP
+    # is fractional and no rounding of its years keeps the later years feasible, yet 9 joint
+    # schedules keep both caps (exhaustive search); the year-by-year integer programs of
+    # fix-and-relax find the cheapest of them, and the solve proves it (gap 0)
+    doc = rules_doc(emission_cap=[{"from": 2031, "tonnes": 100}], budget={"cap": 200000})
+    doc["unit"] = [{"id": "A", "type": "dsl", "age": 1}, {"id": "B", "type": "dsl", "age": 2},
+                   {"id": "C", "type": "dsl", "age": 3}, {"id": "D", "type": "bev", "age": 1}]
+    case = build_case(doc)
+    opt, n = joint_optimum(case)
+    assert n == 9 and opt is not None
+    prog = build_program(case)
+    lp = get_backend(backend)(prog).solve_lp()
+    assert not np.allclose(lp.x, np.round(lp.x))  # a fractional LP: the rounding has work to do
+    be = get_backend(backend)(prog)
+    plain = fix_and_relax(prog, case, be, be.solve_lp().x, time.perf_counter() + 60, year_mip=False)
+    assert plain is None
+    be = get_backend(backend)(prog)
+    x = fix_and_relax(prog, case, be, be.solve_lp().x, time.perf_counter() + 60)
+    assert x is not None and rules_rows.satisfies(prog, x)
+    assert float(prog.cost @ x) == pytest.approx(opt, rel=REL)
+    plan = solve(case, time_limit=60, gap=0.0, solver=backend)
+    assert plan.status == "optimal" and plan.present_cost == pytest.approx(opt, rel=REL)
+    assert plan.provenance.method.startswith("fix-and-relax")
+    assert service.broken_rules(case, plan) == []
+    assert np.all(service.tonnes_by_year(case, plan)[1:] <= 100 + 1e-9)
+
+
+def test_reserve_under_a_binding_emission_cap_keeps_the_true_cap():
+    # the guiding program's LP cuts up to 0.2 % of the cap more (a reward per tonne held back), and
+    # its flows keep the real program's rows: a·x ≤ E − r with 0 ≤ r (arithmetic)
+    # (the three-bus fleet under 50 t from 2032 and a 300,000 cap: the 2032 cap has a shadow price)
+    case = build_case(rules_doc(emission_cap=[{"from": 2032, "tonnes": 50}], budget={"cap": 300000}))
+    prog = build_program(case)
+    lp = get_backend(BACKENDS[0])(prog).solve_lp()
+    guide = reserved(prog, lp.row_duals)
+    binding = [r for r, rr in prog.rule_rows if rr.kind == "emissions" and abs(lp.row_duals[r]) > 1e-9]
+    assert guide is not None and guide.n_cols == prog.n_cols + len(binding) > prog.n_cols
+    assert guide.upper[prog.n_cols:] == pytest.approx([RESERVE_FRACTION * 50] * len(binding))
+    assert np.all(guide.cost[prog.n_cols:] < 0)
+    xg = get_backend(BACKENDS[0])(guide).solve_lp().x
+    assert rules_rows.satisfies(prog, xg[:prog.n_cols])
+    tonnes = (prog.matrix @ xg[:prog.n_cols])[binding]
+    assert np.all(tonnes <= 50 - xg[prog.n_cols:] + 1e-6)
+    # the reward makes the LP hold the whole reserve back here
+    assert xg[prog.n_cols:] == pytest.approx(guide.upper[prog.n_cols:])
+    # no emission cap binds: no guiding program
+    assert reserved(prog, np.zeros(prog.n_rows)) is None
 
 
 # ---------------------------------------------------------------------------

@@ -17,8 +17,14 @@ import numpy as np
 from ..model import Case
 from .backend import Backend
 from .program import CohortProgram
+from .rules_rows import satisfies
+from .yearmip import solve_years
 
 INF = math.inf
+#: the stack mode of a year decided by its own integer program (after the rounding modes 0–2)
+YEAR_MIP_MODE = 3
+#: how many years before a failed year are decided again with it, tried in turn
+WINDOWS = (0, 2, 5)
 
 
 def _floors(prog: CohortProgram, x: np.ndarray, k: int):
@@ -237,13 +243,16 @@ def _follow_mix(lp: np.ndarray, idx: np.ndarray, price: np.ndarray, n_buy: float
 
 
 def fix_and_relax(prog: CohortProgram, case: Case, be: Backend, x: np.ndarray, deadline: float, log=None,
-                  max_backtracks: int | None = None, partial: list | None = None):
+                  max_backtracks: int | None = None, partial: list | None = None, year_mip: bool = True):
     """Round the LP solution year by year, re-solving the LP for the later years.
 
     A year is rounded as the LP suggests first, then more eagerly (see
     :func:`_round_year`) when the later years would become infeasible; when no
-    rounding of a year works, the year before is undone and rounded more
-    eagerly (at most ``max_backtracks`` times, default twice the horizon).
+    rounding of a year works (``year_mip`` True), the year is decided by its own
+    integer program, the later years relaxed (:mod:`tenure.fleet.yearmip`), and
+    failing that together with the ``WINDOWS`` years before it; when that fails
+    too, the year before is undone and rounded more eagerly (at most
+    ``max_backtracks`` times, default twice the horizon).
 
     Returns the integral solution vector, or None when no rounding is found
     (the MIP solver then takes over).  On failure, ``partial`` (a list, when given) receives the
@@ -271,8 +280,14 @@ def fix_and_relax(prog: CohortProgram, case: Case, be: Backend, x: np.ndarray, d
             changed = bool(np.any(np.abs(x[idx] - v) > 1e-7))
             be.set_bounds(idx, v, v)
             if not changed or k == H - 1:
-                stack.append((idx, v, eager, x.copy()))
-                x[idx] = v
+                xk = x.copy()
+                xk[idx] = v
+                # the last year has no later LP to check it: its rows are checked here
+                if changed and not satisfies(prog, xk):
+                    be.set_bounds(idx, lower[idx], upper[idx])
+                    continue
+                stack.append((idx, v, eager, x))
+                x = xk
                 fixed = True
                 break
             xn = be.solve_lp().x
@@ -283,6 +298,14 @@ def fix_and_relax(prog: CohortProgram, case: Case, be: Backend, x: np.ndarray, d
                 break
             # undo this year's fixing and round more eagerly
             be.set_bounds(idx, lower[idx], upper[idx])
+        for back in WINDOWS if not fixed and year_mip and first_mode <= YEAR_MIP_MODE else ():
+            fixed, x = _fix_by_window(prog, be, stack, lower, upper, x, k, back, deadline)
+            if log:
+                y = case.study.start_year + k
+                log(f"year {y}: no rounding worked; the integer program of {y - back}–{y} "
+                    + ("decided them" if fixed else "found no point that keeps the later years feasible"))
+            if fixed:
+                break
         if fixed:
             k, first_mode = k + 1, 0
             continue
@@ -302,6 +325,41 @@ def fix_and_relax(prog: CohortProgram, case: Case, be: Backend, x: np.ndarray, d
         log(f"fix-and-relax needed {backtracks} backtrack(s)")
     _release(be, stack, lower, upper)
     return np.round(x)
+
+
+def _fix_by_window(prog: CohortProgram, be: Backend, stack: list, lower: np.ndarray, upper: np.ndarray,
+                   x: np.ndarray, k: int, back: int, deadline: float) -> tuple[bool, np.ndarray]:
+    """Years k−back … k from one integer program (:func:`~tenure.fleet.yearmip.solve_years`) when no
+    rounding of year k worked: the ``back`` years before k are taken off ``stack`` and decided again
+    with year k, the later years relaxed.  On success each year is fixed on the back end and pushed
+    on ``stack`` (mode ``YEAR_MIP_MODE``); otherwise the stack and the bounds are as they were.
+    Returns (fixed, the LP solution to go on from)."""
+    back = min(back, len(stack))
+    popped = stack[len(stack) - back:]
+    del stack[len(stack) - back:]
+    lo, up = lower.copy(), upper.copy()
+    for idx, v, _, _ in stack:
+        lo[idx], up[idx] = v, v
+    for idx, _, _, _ in popped:
+        be.set_bounds(idx, lower[idx], upper[idx])
+    got = solve_years(prog, type(be), lo, up, range(k - back, k + 1), deadline)
+    xn = None
+    if got is not None:
+        idx = np.concatenate([c for c, _ in got])
+        v = np.concatenate([v for _, v in got])
+        be.set_bounds(idx, v, v)
+        xn = be.solve_lp().x
+        if xn is None:
+            be.set_bounds(idx, lower[idx], upper[idx])
+    if xn is None:
+        for idx, v, _, _ in popped:
+            be.set_bounds(idx, v, v)
+        stack.extend(popped)
+        return False, x
+    x0 = popped[0][3] if popped else x
+    for c, v in got:
+        stack.append((c, v, YEAR_MIP_MODE, x0))
+    return True, xn
 
 
 def _release(be: Backend, stack: list, lower: np.ndarray, upper: np.ndarray) -> None:
