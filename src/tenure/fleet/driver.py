@@ -47,6 +47,8 @@ INF = math.inf
 DEFAULT_GAP = 1e-4
 #: the share of the time left that windows of years may take when the rounding fails (the MIP gets the rest)
 WINDOWS_SHARE = 0.6
+#: the share of the time left that fix-and-relax on the program may take
+ROUND_SHARE = 0.4
 #: years before the one the rounding failed at that the repair re-opens
 REPAIR_BACK = 2
 #: the share of the time left that fix-and-relax on the guiding program (a reserve under the
@@ -219,7 +221,10 @@ def _round(run: _Run, prog, be: Backend, lp, partial: list):
                 run.log("fix-and-relax with a reserve under the emission caps found a plan")
                 return xg[:prog.n_cols]
         run.log("fix-and-relax with a reserve under the emission caps found no plan")
-    return fix_and_relax(prog, run.case, be, lp.x, run.deadline, run.log, partial=partial)
+    # the rounding (with its year programs and backtracking) may take only part of the time left, so a
+    # failed rounding still leaves the repair and the integer program time of their own
+    until = time.perf_counter() + ROUND_SHARE * (run.deadline - time.perf_counter())
+    return fix_and_relax(prog, run.case, be, lp.x, until, run.log, partial=partial)
 
 
 def _repair(run: _Run, prog, partial: list):
