@@ -232,23 +232,31 @@ def test_windows_of_years_give_a_whole_unit_plan_within_every_row(name):
             assert float(prog.cost @ x) >= best - 0.01
 
 
+def _stage_one(case):
+    """The elastic program of ``case``, its stage-one program (cost: the extra capital alone), the
+    integrality of its columns and the number of flow columns."""
+    import numpy as np
+
+    from tenure.fleet import shortfall as sf
+    from tenure.fleet.program import build_program
+
+    prog = build_program(case)
+    el, years = prog.with_elastic_caps()
+    n0, m = prog.n_cols, len(years)
+    integ = np.concatenate([np.ones(n0, dtype=np.int32), np.zeros(m, dtype=np.int32)])
+    return el, sf._with_cost(el, np.concatenate([np.zeros(n0), np.ones(m)])), integ, n0
+
+
 def test_elastic_windows_find_the_known_shortfall_and_the_lp_proves_it():
     """Hand arithmetic (test_known_shortfall_is_proven_least): the windows' plan of the elastic program
     needs exactly the known extra capital, and its LP bound equals it, so it is proven least without
     an integer search."""
     import time
 
-    import numpy as np
 
     from tenure.fleet import shortfall as sf
-    from tenure.fleet.program import build_program
 
-    case = build_case(forced_doc())
-    prog = build_program(case)
-    el, years = prog.with_elastic_caps()
-    n0, m = prog.n_cols, len(years)
-    integ = np.concatenate([np.ones(n0, dtype=np.int32), np.zeros(m, dtype=np.int32)])
-    stage1 = sf._with_cost(el, np.concatenate([np.zeros(n0), np.ones(m)]))
+    el, stage1, integ, n0 = _stage_one(build_case(forced_doc()))
     res = sf._least_extra(stage1, integ, get_backend("highs"), time.perf_counter() + 30, 1e-4)
     assert res.status == "optimal"
     assert float(res.x[n0:].sum()) == pytest.approx(10000.0, abs=1e-6)
@@ -262,14 +270,8 @@ def test_elastic_start_without_windows_is_the_least_cost_flows_with_their_oversp
     import numpy as np
 
     from tenure.fleet import shortfall as sf
-    from tenure.fleet.program import build_program
 
-    case = build_case(forced_doc())
-    prog = build_program(case)
-    el, years = prog.with_elastic_caps()
-    n0, m = prog.n_cols, len(years)
-    integ = np.concatenate([np.ones(n0, dtype=np.int32), np.zeros(m, dtype=np.int32)])
-    stage1 = sf._with_cost(el, np.concatenate([np.zeros(n0), np.ones(m)]))
+    el, stage1, integ, n0 = _stage_one(build_case(forced_doc()))
     x = sf._overspend_start(stage1, integ, get_backend("highs"), el.cost)
     assert x is not None and np.array_equal(x[:n0], np.round(x[:n0])) and np.all(x[n0:] >= 0)
     act = el.matrix @ x

@@ -579,3 +579,33 @@ def test_recost_of_a_plan_under_its_own_carbon_price_equals_its_present_cost():
     assert rc.cost == pytest.approx(plan.present_cost, rel=1e-9) and not rc.breaks
     plain = solve(build_case(rules_doc()))
     assert plan.present_cost > plain.present_cost + 1.0  # the carbon line is really priced
+
+
+def test_a_rule_is_called_impossible_only_on_a_bound_never_from_a_point():
+    """Common practice (elastic programming): a point that uses slack on a rule row proves nothing;
+    only a positive lower bound on the least slack does.  A back end whose integer solve stops at such
+    a point with no bound must not make the rule check name a rule; with a proven bound it does."""
+    import numpy as np
+
+    from tenure.fleet import rules_check
+    from tenure.fleet.backend import MIPResult, get_backend
+    from tenure.uncapped import build_graphs
+
+    case = build_case(rules_doc(emission_cap=[{"from": 2032, "tonnes": 50}], budget={"cap": 300000}))
+    graphs = build_graphs(case)
+    base = get_backend("highs")
+
+    def stopped(bound):
+        class Stopped(base):
+            def solve_mip(self, *a, **kw):
+                x = np.asarray(self.solve_lp().x, dtype=float).copy()
+                x[-1] += 5.0  # a point with 5 t of slack on the last rule row
+                return MIPResult("feasible", x, bound)
+        return Stopped
+
+    # the LP of this case needs no slack, so the check reaches the integer program
+    assert rules_check._short_rows(case, graphs, base, 10.0, mip=False) == []
+    assert rules_check._short_rows(case, graphs, stopped(None), 10.0) == []
+    assert rules_check._short_rows(case, graphs, stopped(0.0), 10.0) == []
+    rows = rules_check._short_rows(case, graphs, stopped(5.0), 10.0)
+    assert rows and rows[0][2].kind == "emissions" and rows[0][2].rule == "emission cap"

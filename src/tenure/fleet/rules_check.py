@@ -45,7 +45,8 @@ def _short_rows(case: Case, graphs, backend: type[Backend], time_limit: float, m
     when even unlimited slack on the rules leaves no plan.
 
     The LP relaxation is tried first (fast, and enough whenever the program's own LP has no
-    solution); the integer program, for ``time_limit`` [s], only when the LP needs no slack."""
+    solution); the integer program, for ``time_limit`` [s], only when the LP needs no slack, and its
+    rows count only when its dual bound proves that some slack is needed (else ``[]``: nothing proven)."""
     prog = build_program(case, graphs)
     n0, m = prog.n_cols, len(prog.rule_rows)
     if m == 0:
@@ -53,8 +54,13 @@ def _short_rows(case: Case, graphs, backend: type[Backend], time_limit: float, m
     rows = np.array([r for r, _ in prog.rule_rows])
     signs = np.array([1.0 if np.isfinite(rr.lo) else -1.0 for _, rr in prog.rule_rows])
     extra = sp.csc_matrix((signs, (rows, np.arange(m))), shape=(prog.n_rows, m))
-    # the flows' cost only breaks ties; each unit or tonne short costs 1
-    el = dataclasses.replace(prog, cost=np.concatenate([prog.cost * 1e-9, np.ones(m)]),
+    # each unit or tonne short costs 1 (a thousandth more per year later, so the earliest rule year that
+    # must give way is the one named) and nothing else counts: the LP's optimum and the integer program's
+    # dual bound are then above zero exactly when some slack is needed, so a rule is called impossible
+    # only on such a bound, never from a point alone
+    y0 = case.study.start_year
+    weight = np.array([1.0 + 1e-3 * (rr.year - y0) for _, rr in prog.rule_rows])
+    el = dataclasses.replace(prog, cost=np.concatenate([np.zeros(n0), weight]),
                              lower=np.concatenate([prog.lower, np.zeros(m)]),
                              upper=np.concatenate([prog.upper, np.full(m, np.inf)]),
                              matrix=sp.hstack([prog.matrix, extra], format="csc"))
@@ -68,6 +74,8 @@ def _short_rows(case: Case, graphs, backend: type[Backend], time_limit: float, m
         res = be.solve_mip(max(time_limit, 2.0), 1e-4)
         if res.x is None:
             return None if res.status == "infeasible" else []
+        if res.bound is None or res.bound <= 1e-6:  # a point that needs slack proves nothing by itself
+            return []
         slack = np.asarray(res.x)[n0:]
     return sorted(((rr.year, j, rr) for j, ((_, rr), v) in enumerate(zip(prog.rule_rows, slack)) if v > 1e-6),
                   key=lambda c: (c[0], c[1]))
