@@ -48,7 +48,7 @@ DEFAULT_GAP = 1e-4
 #: the share of the time left that windows of years may take when the rounding fails (the MIP gets the rest)
 WINDOWS_SHARE = 0.6
 #: the share of the time left that fix-and-relax on the program may take
-ROUND_SHARE = 0.4
+ROUND_SHARE = 0.7
 #: years before the one the rounding failed at that the repair re-opens
 REPAIR_BACK = 2
 #: the share of the time left that fix-and-relax on the guiding program (a reserve under the
