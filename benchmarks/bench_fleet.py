@@ -122,21 +122,28 @@ def first_time_at(history, target: float):
 # ---------------------------------------------------------------------------
 # this layer: the whole CLI run
 # ---------------------------------------------------------------------------
-def run_layer(doc: dict, time_limit: float, workdir: Path, extra: list | None = None) -> dict:
-    case_path = write_case(doc, workdir)
-    out = workdir / "out"
-    env = dict(os.environ, PYTHONIOENCODING="utf-8")
-    cmd = [sys.executable, "-m", "tenure.cli", "plan", str(case_path), "--out", str(out), "--quiet",
-           "--time-limit", str(time_limit)] + list(extra or [])
+def run_plan(path: Path, out: Path, time_limit: float, extra=()) -> tuple[int, float, str, dict | None]:
+    """``tenure plan PATH --out OUT --quiet --time-limit T [extra]`` in a subprocess: its exit code, wall
+    time [s], stderr and plan.json (None when it wrote none: exit 3 with no plan at all).  Exit codes
+    other than 0 and 3 raise."""
+    cmd = [sys.executable, "-m", "tenure.cli", "plan", str(path), "--out", str(out), "--quiet",
+           "--time-limit", str(time_limit)] + list(extra)
     t0 = time.perf_counter()
-    r = subprocess.run(cmd, capture_output=True, text=True, encoding="utf-8", env=env)
+    r = subprocess.run(cmd, capture_output=True, text=True, encoding="utf-8",
+                       env=dict(os.environ, PYTHONIOENCODING="utf-8"))
     wall = time.perf_counter() - t0
     if r.returncode not in (0, 3):
         raise RuntimeError(f"tenure plan failed ({r.returncode}):\n{r.stderr[-2000:]}")
-    if not (out / "plan.json").exists():  # exit 3 with no plan at all (no plan found, even with extra capital)
+    plan_file = out / "plan.json"
+    plan = json.loads(plan_file.read_text(encoding="utf-8")) if plan_file.exists() else None
+    return r.returncode, wall, r.stderr, plan
+
+
+def run_layer(doc: dict, time_limit: float, workdir: Path, extra: list | None = None) -> dict:
+    rc, wall, _, plan = run_plan(write_case(doc, workdir), workdir / "out", time_limit, extra or ())
+    if plan is None:  # exit 3 with no plan at all (no plan found, even with extra capital)
         return {"status": "no plan", "wall": wall, "solve": None, "first": None, "t1": None, "t05": None,
-                "gap": None, "cost": None, "columns": None, "rows": None, "exit": r.returncode}
-    plan = json.loads((out / "plan.json").read_text(encoding="utf-8"))
+                "gap": None, "cost": None, "columns": None, "rows": None, "exit": rc}
     st = plan.get("stats", {})
     hist = st.get("gap_history", [])
     return {
@@ -150,7 +157,7 @@ def run_layer(doc: dict, time_limit: float, workdir: Path, extra: list | None = 
         "cost": plan.get("present_cost"),
         "columns": st.get("columns"),
         "rows": st.get("rows"),
-        "exit": r.returncode,
+        "exit": rc,
     }
 
 

@@ -23,7 +23,6 @@ Each case is run as ``tenure plan CASE --out DIR --quiet --time-limit 60`` in a 
 from __future__ import annotations
 
 import argparse
-import json
 import sys
 import tempfile
 from pathlib import Path
@@ -32,7 +31,7 @@ HERE = Path(__file__).resolve().parent
 REPO = HERE.parent
 sys.path.insert(0, str(HERE))
 
-from bench_fleet import _toml_value, machine, write_case  # noqa: E402
+from bench_fleet import _toml_value, machine, run_plan, write_case  # noqa: E402
 from fleetgen import capped_case, invented_fleet  # noqa: E402
 
 TIME_LIMIT = 60.0
@@ -103,27 +102,13 @@ def run(doc: dict, extra: list[str], workdir: Path) -> dict:
 
 
 def run_layer_from(path: Path, workdir: Path) -> dict:
-    # bench_fleet.run_layer writes its own case; re-use its subprocess timing on ours
-    import os
-    import subprocess
-    import time
-
-    out = workdir / "out"
-    cmd = [sys.executable, "-m", "tenure.cli", "plan", str(path), "--out", str(out), "--quiet",
-           "--time-limit", str(TIME_LIMIT)]
-    t0 = time.perf_counter()
-    r = subprocess.run(cmd, capture_output=True, text=True, encoding="utf-8",
-                       env=dict(os.environ, PYTHONIOENCODING="utf-8"))
-    wall = time.perf_counter() - t0
-    if r.returncode not in (0, 3):
-        raise RuntimeError(f"tenure plan failed ({r.returncode}):\n{r.stderr[-2000:]}")
-    if not (out / "plan.json").exists():
-        msg = r.stderr.strip()[-300:]
+    rc, wall, stderr, plan = run_plan(path, workdir / "out", TIME_LIMIT)
+    if plan is None:
+        msg = stderr.strip()[-300:]
         # "no plan meets …" is the rule check's proven verdict (the LP relaxation has no point);
         # anything else is a search that ran out of time
         status = "infeasible (proven)" if "no plan meets" in msg else "no plan found (not proven)"
         return {"status": status, "wall": wall, "message": msg}
-    plan = json.loads((out / "plan.json").read_text(encoding="utf-8"))
     st = plan.get("stats", {})
     t05 = next((t for t, g in st.get("gap_history", []) if g <= 0.005 + 1e-12), None)
     return {"status": plan["status"], "wall": wall, "solve": st.get("seconds"), "first": st.get("first_plan_seconds"),

@@ -24,19 +24,15 @@ from __future__ import annotations
 
 import argparse
 import copy
-import json
-import os
-import subprocess
 import sys
 import tempfile
-import time
 from pathlib import Path
 
 HERE = Path(__file__).resolve().parent
 REPO = HERE.parent
 sys.path.insert(0, str(HERE))
 
-from bench_fleet import machine, write_case  # noqa: E402
+from bench_fleet import machine, run_plan, write_case  # noqa: E402
 from fleetgen import capped_case, invented_fleet  # noqa: E402
 
 LIMITS = (15.0, 30.0)
@@ -61,22 +57,12 @@ RUNS = (("overdue over the first cap", 0.3, 1.0), ("tight caps", 0.0, 0.55), ("o
 
 
 def run(doc: dict, limit: float, folder: Path) -> dict:
-    path = write_case(doc, folder)
-    out = folder / "out"
-    cmd = [sys.executable, "-m", "tenure.cli", "plan", str(path), "--out", str(out), "--quiet",
-           "--time-limit", str(limit)]
-    t0 = time.perf_counter()
-    r = subprocess.run(cmd, capture_output=True, text=True, encoding="utf-8",
-                       env=dict(os.environ, PYTHONIOENCODING="utf-8"))
-    wall = time.perf_counter() - t0
-    if r.returncode not in (0, 3):
-        raise RuntimeError(f"tenure plan failed ({r.returncode}):\n{r.stderr[-2000:]}")
-    if not (out / "plan.json").exists():  # no plan at all, even with extra capital, in the time
-        return {"status": "no plan", "exit": r.returncode, "wall": wall, "solve": None, "at_most": None,
+    rc, wall, _, plan = run_plan(write_case(doc, folder), folder / "out", limit)
+    if plan is None:  # no plan at all, even with extra capital, in the time
+        return {"status": "no plan", "exit": rc, "wall": wall, "solve": None, "at_most": None,
                 "at_least": None, "least": False, "precheck": None, "years": 0}
-    plan = json.loads((out / "plan.json").read_text(encoding="utf-8"))
     st = plan.get("stats", {})
-    return {"status": plan["status"], "exit": r.returncode, "wall": wall, "solve": st.get("seconds"),
+    return {"status": plan["status"], "exit": rc, "wall": wall, "solve": st.get("seconds"),
             "at_most": st.get("shortfall_at_most"), "at_least": st.get("shortfall_at_least"),
             "least": st.get("shortfall_least"), "precheck": bool(st.get("forced_over_caps")),
             "years": len(plan.get("shortfall", []))}
