@@ -17,7 +17,7 @@ What each check is measured against is named beside it:
   a claim that no plan fits is proven by hand arithmetic from the case or by exhaustive search.
 - **the backward recursion** (``solve_uncapped``), itself tested in test_chain.py against
   networkx and brute force, wherever no cap binds.
-- **a second MIP solver**: CBC (through pulp) against HiGHS.
+- **a second MIP solver**: CBC (the binary pulp ships, fed an MPS file) against HiGHS.
 - **hand arithmetic** for the known shortfall of a fleet whose forced purchases exceed a cap.
 
 The fleets are invented: a small made-up fleet below, the fictional Quillmere Hollow demo case
@@ -49,9 +49,6 @@ from tenure.uncapped import solve_uncapped
 
 sys.path.insert(0, str(REPO / "benchmarks"))
 from fleetgen import capped_case, invented_fleet  # noqa: E402
-
-# fleet.py's CBC back end uses pulp calls that pulp 3.x marks as deprecated for 4.0; not this file's concern
-pytestmark = pytest.mark.filterwarnings("ignore:.*(PuLP 4.0|PULP_CBC_CMD is deprecated).*:DeprecationWarning")
 
 Y0 = 2030
 REL = 1e-6  # relative agreement of present costs required between two exact methods

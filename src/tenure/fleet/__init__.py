@@ -2,7 +2,8 @@
 
 - :mod:`.program`   the program's arrays, built from the state graphs;
 - :mod:`.backend`   the operations every solver back end offers, and the registry;
-- :mod:`.highs`, :mod:`.cbc`  the back ends (HiGHS through highspy, CBC through pulp);
+- :mod:`.highs`, :mod:`.cbc`  the back ends (HiGHS through highspy, CBC as a process on an MPS file);
+- :mod:`.mps`       the program as MPS text;
 - :mod:`.rounding`  fix-and-relax by year, guided by the LP;
 - :mod:`.shortfall` the elastic program for caps that no plan fits;
 - :mod:`.flows`     integral flows to unit paths;
