@@ -55,15 +55,17 @@ from tenure.case import build_case  # noqa: E402
 #: name -> (units, classes, seed, horizon [years], layer time limit [s], plain time limit [s])
 #: Seeds are fixed. At a cap of the average yearly spend some seeds give fleets whose forced
 #: replacements cannot fit (seed 7 at 100 units has an infeasible LP), so the 100-unit fleet uses
-#: the first seed whose capped case has a plan (seed 2). The limits are the issue-10 targets.
+#: the first seed whose capped case has a plan (seed 2).  The limits follow the issue-10 targets:
+#: 30 s of solve where the target is a gap within 30 s; where it is a whole run within 60 s or
+#: 120 s, a limit that leaves the start-up and the writing room inside it (50 s, 110 s).
 SIZES = {
     "100": (100, 5, 2, 30, 30.0, 30.0),
     "250": (250, 20, 7, 30, 30.0, 30.0),
     "1000": (1000, 20, 7, 30, 30.0, 30.0),
-    "1000-40y": (1000, 20, 7, 40, 60.0, 60.0),
-    "1000-50y": (1000, 20, 7, 50, 60.0, 60.0),
-    "10000-20": (10000, 20, 7, 30, 60.0, 60.0),
-    "10000": (10000, 100, 7, 30, 120.0, 120.0),
+    "1000-40y": (1000, 20, 7, 40, 50.0, 50.0),
+    "1000-50y": (1000, 20, 7, 50, 50.0, 50.0),
+    "10000-20": (10000, 20, 7, 30, 50.0, 50.0),
+    "10000": (10000, 100, 7, 30, 110.0, 110.0),
 }
 DEFAULT_SIZES = "100,250,1000,1000-40y,1000-50y,10000-20,10000"
 #: proven gaps whose first times are tabled: 0.05 % and 0.01 %
