@@ -246,6 +246,26 @@ def test_a_second_run_at_a_locked_folder_refuses_at_once(tmp_path, capsys):
         assert f"pid {os.getpid()}" in err
 
 
+def test_a_state_folder_made_by_a_run_starting_at_the_same_instant_is_shared(tmp_path, monkeypatch):
+    """Two runs starting together both find .tenure missing; the one whose mkdir comes second must
+    take the folder the other made (and then meet its lock), not fail on "File exists"."""
+    out = tmp_path / "o"
+    out.mkdir()
+    real_mkdir = Path.mkdir
+
+    def raced_mkdir(self, *args, **kwargs):
+        if self.name == ".tenure":
+            real_mkdir(self, *args, **kwargs)  # the other run got there first
+            raise FileExistsError(17, "File exists", str(self))
+        return real_mkdir(self, *args, **kwargs)
+
+    monkeypatch.setattr(Path, "mkdir", raced_mkdir)
+    with OutputFolder(out, "plan") as folder:
+        assert folder.state.is_dir() and (folder.state / "sets").is_dir()
+    monkeypatch.undo()
+    assert (out / ".tenure").is_dir()  # not ours to remove: the run that made it may be using it
+
+
 def test_a_compare_set_replaces_a_plan_set_whole(tmp_path, capsys):
     out = tmp_path / "o"
     _plan(out, capsys)

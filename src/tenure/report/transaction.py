@@ -101,9 +101,13 @@ class OutputFolder:
         check_out(self.out, self.names)
         try:
             for d in (self.out, self.state, self.state / "sets"):
-                if not d.exists():
+                # mkdir, not exists() then mkdir(): two runs starting together may both find it missing
+                try:
                     d.mkdir()
                     self._created.append(d)
+                except FileExistsError:
+                    if not d.is_dir():
+                        raise
             self._lock()
             self._clean()
             self.staging.mkdir()
