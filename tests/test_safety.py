@@ -246,6 +246,46 @@ def test_a_second_run_at_a_locked_folder_refuses_at_once(tmp_path, capsys):
         assert f"pid {os.getpid()}" in err
 
 
+def test_an_out_folder_whose_parents_are_missing_is_created_with_them(tmp_path, capsys):
+    """The README's first command writes to out/quillmere in a fresh clone, where out/ does not exist."""
+    out = tmp_path / "out" / "fleet" / "2027"
+    rid = _plan(out, capsys)
+    assert verify(out) == [] and json.loads((out / "plan.json").read_text())["run_id"] == rid
+
+
+def test_a_refused_run_leaves_no_folders_it_made(tmp_path, monkeypatch):
+    out = tmp_path / "new" / "deeper"
+
+    def no_lock(self):
+        raise OSError(37, "No locks available")
+
+    monkeypatch.setattr(OutputFolder, "_lock", no_lock)
+    with pytest.raises(Exception, match="No locks available"):
+        with OutputFolder(out, "plan"):
+            pass
+    assert not (tmp_path / "new").exists()
+
+
+def test_a_run_that_gives_up_leaves_the_lock_of_a_run_that_holds_it(tmp_path):
+    """Run A made .tenure, then gave up without committing, while run B (started beside it) took the
+    lock: A must not remove the lock file B holds, or a third run could lock a new file beside B."""
+    import fcntl
+
+    out = tmp_path / "o"
+    a = OutputFolder(out, "plan").__enter__()
+    a._release()
+    fd = os.open(out / ".tenure" / "lock", os.O_RDWR)
+    fcntl.flock(fd, fcntl.LOCK_EX | fcntl.LOCK_NB)  # B holds it
+    try:
+        a.__exit__(None, None, None)
+        assert (out / ".tenure" / "lock").exists()
+    finally:
+        os.close(fd)
+    a2 = OutputFolder(tmp_path / "p", "plan").__enter__()
+    a2.__exit__(None, None, None)
+    assert not (tmp_path / "p").exists()  # alone, a run that gives up leaves nothing it made
+
+
 def test_a_state_folder_made_by_a_run_starting_at_the_same_instant_is_shared(tmp_path, monkeypatch):
     """Two runs starting together both find .tenure missing; the one whose mkdir comes second must
     take the folder the other made (and then meet its lock), not fail on "File exists"."""

@@ -100,7 +100,12 @@ class OutputFolder:
     def __enter__(self) -> "OutputFolder":
         check_out(self.out, self.names)
         try:
-            for d in (self.out, self.state, self.state / "sets"):
+            missing = []  # the folder and any parents not there yet, outermost first (--out out/fleet)
+            d = self.out
+            while not d.exists() and d != d.parent:
+                missing.insert(0, d)
+                d = d.parent
+            for d in (*missing, self.state, self.state / "sets"):
                 # mkdir, not exists() then mkdir(): two runs starting together may both find it missing
                 try:
                     d.mkdir()
@@ -113,6 +118,7 @@ class OutputFolder:
             self.staging.mkdir()
         except OSError as exc:
             self._release()
+            self._remove_created()
             raise OutputError(f"--out {self.out}: {describe_os_error(exc)}") from None
         return self
 
@@ -136,19 +142,37 @@ class OutputFolder:
             shutil.rmtree(self.staging, ignore_errors=True)
         self._release()
         if not self.committed:
-            # a folder this run created and left empty goes away again
-            for d in reversed(self._created):
-                if d == self.state:
-                    for leftover in ("lock", "sets"):
-                        q = d / leftover
-                        try:
-                            q.rmdir() if q.is_dir() else q.unlink()
-                        except OSError:
-                            pass
-                try:
-                    d.rmdir()
-                except OSError:
-                    pass
+            self._remove_created()
+
+    def _remove_created(self) -> None:
+        """A folder this run created and left empty goes away again (parents of --out included)."""
+        for d in reversed(self._created):
+            if d == self.state:
+                if self._lock_taken_by_another():
+                    return  # a run that started beside this one uses the folder now: leave it all
+                for leftover in ("lock", "sets"):
+                    q = d / leftover
+                    try:
+                        q.rmdir() if q.is_dir() else q.unlink()
+                    except OSError:
+                        pass
+            try:
+                d.rmdir()
+            except OSError:
+                pass
+
+    def _lock_taken_by_another(self) -> bool:
+        try:
+            fd = os.open(self.state / "lock", os.O_RDWR)
+        except OSError:
+            return False
+        try:
+            fcntl.flock(fd, fcntl.LOCK_EX | fcntl.LOCK_NB)
+            return False
+        except BlockingIOError:
+            return True
+        finally:
+            os.close(fd)
 
     def _release(self) -> None:
         if self._fd is not None:
