@@ -50,6 +50,8 @@ class Backend(ABC):
 
     #: how reports name the solver, e.g. "HiGHS"
     label: ClassVar[str] = ""
+    #: True when :meth:`solve_mip` uses its ``exchange`` (calls it during the solve)
+    trades_plans: ClassVar[bool] = False
 
     def __init__(self, prog: CohortProgram, integrality: np.ndarray | None = None):
         """``integrality`` (n_cols,) 1 for integer columns in :meth:`solve_mip` (default: all)."""
@@ -67,11 +69,16 @@ class Backend(ABC):
 
     @abstractmethod
     def solve_mip(self, time_limit: float, gap: float, start: np.ndarray | None = None,
-                  on_incumbent: OnIncumbent | None = None, partial_start=None) -> MIPResult:
+                  on_incumbent: OnIncumbent | None = None, partial_start=None, exchange=None) -> MIPResult:
         """Integer solve of the program (original bounds) for at most ``time_limit`` [s], stopping at
         relative gap ``gap``, from the integral point ``start`` when given; else from
         ``partial_start`` ``(columns, values)`` when given, values for some columns only, which the
-        solver completes if it can (a hint: it changes no bound and no proof)."""
+        solver completes if it can (a hint: it changes no bound and no proof).
+
+        ``exchange`` (optional) trades plans with a search running beside the solve
+        (:class:`~tenure.fleet.beside.SearchBeside`): a back end that can reports each improving
+        point to ``exchange.found(cost, x)`` and takes ``exchange.offered()`` (a point or None) as a
+        new incumbent during the solve; one that cannot ignores it."""
 
 
 def confirming_backends(name: str) -> tuple[str, ...]:

@@ -118,10 +118,12 @@ class CbcBackend(Backend):
         self._lower[cols] = lower
         self._upper[cols] = upper
 
-    def solve_mip(self, time_limit, gap, start=None, on_incumbent=None, partial_start=None) -> MIPResult:
+    def solve_mip(self, time_limit, gap, start=None, on_incumbent=None, partial_start=None,
+                  exchange=None) -> MIPResult:
         """The proof is read from CBC's log: "optimal" only when CBC proved the point optimal (its
         "Result - Optimal solution found" without "tolerance"); otherwise the bound is the "Lower
-        bound" CBC logs (None when it logs none).  CBC offers no incumbent callback here."""
+        bound" CBC logs (None when it logs none).  CBC offers no incumbent callback here, and runs
+        as a process of its own, so ``exchange`` is not used: a search beside it runs on alone."""
         lines = None
         if start is not None:
             lines = [f"{j} C{j} {v:.17g} 0" for j, v in enumerate(np.asarray(start, dtype=float).tolist())]

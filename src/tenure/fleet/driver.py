@@ -12,6 +12,10 @@
    (:mod:`tenure.fleet.windows`) for at most ``WINDOWS_SHARE`` of the time left.
 4. If the gap is still above the target, the integer program from that plan as
    its start (or, when both failed, from the years the rounding had fixed), for the time left.
+   When it runs for more than a few seconds, a local search over two classes at a time
+   (:mod:`tenure.fleet.localsearch`) joins it in a process of its own on the other core
+   (:mod:`tenure.fleet.beside`); the two trade plans, the cheaper plan is kept, and the bound
+   is the integer program's alone.
 
 When no plan fits the caps, the elastic program (:mod:`tenure.fleet.shortfall`)
 finds the least extra capital per year that makes one fit, and the plan under
@@ -33,7 +37,7 @@ from ..plan import Plan, Provenance, assemble
 from ..uncapped import build_graphs, solve_uncapped
 from .backend import DEFAULT_BACKEND, Backend, confirming_backends, get_backend
 from .flows import fits_caps, flows_to_groups
-from . import rules_check, rules_rows
+from . import localsearch, rules_check, rules_rows
 from .precheck import forced_over_caps
 from .reserve import reserved
 from .program import build_program
@@ -47,6 +51,9 @@ INF = math.inf
 DEFAULT_GAP = 1e-4
 #: the share of the time left that windows of years may take when the rounding fails (the MIP gets the rest)
 WINDOWS_SHARE = 0.6
+#: the least time left [s] for which the local search over classes runs beside the MIP (it starts
+#: after ``beside.DELAY`` seconds of the MIP, and its process takes about a second to start)
+BESIDE_SECONDS = 8.0
 #: the share of the time left that fix-and-relax on the program may take
 ROUND_SHARE = 0.7
 #: years before the one the rounding failed at that the repair re-opens
@@ -69,6 +76,8 @@ class _Run:
     graphs: dict = field(default_factory=dict)
     sols: dict = field(default_factory=dict)
     uncapped_cost: float = 0.0
+    #: the best dual bound the MIP has reported so far [money, time 0]
+    bound_seen: float = -INF
 
     def log(self, msg: str) -> None:
         if self.progress:
@@ -177,8 +186,13 @@ def _solve_program(run: _Run, gap: float) -> Plan:
             run.log(f"MIP ({label}) for up to {left:.0f} s from the {len(hint[0])} columns fix-and-relax fixed")
         else:
             run.log(f"MIP ({label}) for up to {left:.0f} s")
-        res = be.solve_mip(left, gap, best_x, _gap_recorder(run, history, lp_bound, trust_dual=hint is None),
-                           **({"partial_start": hint} if hint is not None else {}))
+        beside = _search_beside(run, prog, best_x, left, history, lp_bound)
+        try:
+            res = be.solve_mip(left, gap, best_x, _gap_recorder(run, history, lp_bound, trust_dual=hint is None),
+                               **({"partial_start": hint} if hint is not None else {}),
+                               **({"exchange": beside} if beside is not None else {}))
+        finally:  # the search stops with the MIP, however the MIP ends (an interrupt included)
+            found = beside.close() if beside is not None else None
         if res.x is not None:
             xm = np.round(res.x)
             cm = float(prog.cost @ xm)
@@ -188,6 +202,18 @@ def _solve_program(run: _Run, gap: float) -> Plan:
                 stats.setdefault("first_plan_seconds", run.elapsed())
             if res.bound is not None and res.bound > bound:
                 bound, bound_from = res.bound, f"integer program's dual bound ({label})"
+        if beside is not None:
+            if found is not None:
+                stats["local_search"] = {"steps": found.steps, "improvements": found.improvements,
+                                         "local_optimum": found.local_optimum}
+                run.log(f"local search beside the MIP: {found.improvements} better plans in {found.steps} steps")
+                if found.improvements:
+                    method += f", with a local search over classes beside it ({label})"
+            cost, plan = beside.best
+            if cost < best_cost - 1e-6 and rules_rows.satisfies(prog, plan):
+                # the search's last plan came after the MIP's last look at it
+                best_x, best_cost = plan, float(prog.cost @ plan)
+                method = f"local search over classes beside the integer program ({label})"
     if best_x is None:
         stats["seconds"] = run.elapsed()
         return _infeasible(run)
@@ -202,6 +228,28 @@ def _solve_program(run: _Run, gap: float) -> Plan:
     plan = plan.with_(tolerance=stats["tolerance"])
     run.log(f"plan {plan.present_cost:,.0f}, gap {plan.gap:.3%}, status {plan.status}")
     return plan
+
+
+def _search_beside(run: _Run, prog, x, seconds: float, history: list, lp_bound: float):
+    """The local search over classes in a process beside the MIP (:mod:`tenure.fleet.beside`), from the
+    whole-unit plan ``x``; None without a plan, with less than ``BESIDE_SECONDS`` to go, with a back
+    end that does not trade plans during its solve, or in a worker process (a sweep's or comparison's
+    workers already take the cores)."""
+    import multiprocessing
+
+    if (x is None or seconds < BESIDE_SECONDS or not run.backend.trades_plans
+            or multiprocessing.parent_process() is not None):
+        return None
+
+    def better(cost: float) -> None:
+        # against the best bound the MIP has reported so far (the LP bound before it reports any)
+        bnd = max(lp_bound, run.bound_seen)
+        history.append([run.elapsed(), max(0.0, (cost - bnd) / abs(cost))])
+
+    from .beside import DELAY, SearchBeside
+
+    run.log(f"a local search over {localsearch.CLASSES_PER_STEP} classes at a time joins it after {DELAY:g} s")
+    return SearchBeside(prog, run.backend, x, seconds, on_plan=better, delay=DELAY)
 
 
 def _round(run: _Run, prog, be: Backend, lp, partial: list):
@@ -260,6 +308,7 @@ def _gap_recorder(run: _Run, history: list, floor_bound: float, trust_dual: bool
         if not trust_dual:
             return
         bnd = max(dual_bound, floor_bound)
+        run.bound_seen = max(run.bound_seen, bnd)
         history.append([run.elapsed(), max(0.0, (obj - bnd) / max(abs(obj), 1e-9))])
 
     return on_incumbent

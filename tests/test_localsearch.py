@@ -1,0 +1,180 @@
+"""The local search over classes (tenure.fleet.localsearch), checked against exhaustive enumeration.
+
+The reference optimum of each small capped fleet is test_fleet.exhaustive_optimum: every joint
+keep/replace schedule of the units, priced from the curves (never from the program), filtered by
+the caps and limits.  The search starts from a deliberately poor whole-unit plan: any point of the
+program, found with a zero objective.
+"""
+
+from __future__ import annotations
+
+import itertools
+import time
+from dataclasses import replace
+
+import numpy as np
+import pytest
+from test_fleet import close, exhaustive_optimum
+from test_fleet_precision import MORE, SMALL, _case
+
+from tenure.fleet.backend import get_backend
+from tenure.fleet.localsearch import class_of_column, class_sets, improve
+from tenure.fleet.program import build_program
+
+NAMES = list(SMALL) + list(MORE)
+
+
+def _poor_start(prog, backend):
+    """A whole-unit point of ``prog`` with no regard to cost (HiGHS on a zero objective)."""
+    res = backend(replace(prog, cost=np.zeros(prog.n_cols))).solve_mip(30, 0.0)
+    assert res.x is not None
+    return np.round(res.x)
+
+
+def _within_rows(prog, x):
+    act = prog.matrix @ x
+    return (np.array_equal(x, np.round(x)) and np.all(x >= prog.lower - 1e-9) and np.all(x <= prog.upper + 1e-9)
+            and np.all(act >= prog.row_lower - 1e-6) and np.all(act <= prog.row_upper + 1e-6))
+
+
+@pytest.mark.parametrize("solver", ["highs", "cbc"])
+@pytest.mark.parametrize("name", NAMES)
+def test_freeing_every_class_reaches_the_exhaustive_optimum(name, solver):
+    """Two classes (vans, carts) and two freed per step: the one step is the whole program, so the
+    search ends at the exhaustive optimum and calls it a local optimum."""
+    case = _case(name)
+    best, _ = exhaustive_optimum(case)
+    prog = build_program(case)
+    be = get_backend(solver)
+    x0 = _poor_start(prog, be)
+    r = improve(prog, be, x0, time.perf_counter() + 60, size=2)
+    assert _within_rows(prog, r.x)
+    assert close(r.cost, best)
+    assert close(float(prog.cost @ r.x), r.cost)
+    assert r.local_optimum and r.steps == 1
+    assert r.improvements == (0 if close(float(prog.cost @ x0), best) else 1)
+
+
+@pytest.mark.parametrize("name", NAMES)
+def test_one_class_at_a_time_never_gets_worse_and_keeps_every_row(name):
+    """One class freed per step: each better plan is kept, every plan stays within every bound and
+    row (matrix arithmetic), and none costs less than the exhaustive optimum."""
+    case = _case(name)
+    best, _ = exhaustive_optimum(case)
+    prog = build_program(case)
+    be = get_backend("highs")
+    x0 = _poor_start(prog, be)
+    seen = []
+    r = improve(prog, be, x0, time.perf_counter() + 60, size=1,
+                on_better=lambda x, cost: seen.append(cost))
+    assert _within_rows(prog, r.x)
+    assert best - 0.01 <= r.cost <= float(prog.cost @ x0) + 1e-6
+    assert seen == sorted(seen, reverse=True) and len(seen) == r.improvements
+    assert r.improvements == 0 or close(seen[-1], r.cost)
+    # a round of both classes with no better plan ends it: at most one round after the last improvement
+    assert r.steps <= 2 * (r.improvements + 1)
+    assert r.local_optimum
+
+
+def test_the_search_stops_at_its_deadline_with_the_plan_it_was_given():
+    """No time left: no step is run and the starting plan comes back as it was."""
+    case = _case("gross-45k")
+    prog = build_program(case)
+    be = get_backend("highs")
+    x0 = _poor_start(prog, be)
+    r = improve(prog, be, x0, time.perf_counter() - 1.0)
+    assert r.steps == 0 and not r.local_optimum
+    assert np.array_equal(r.x, x0)
+
+
+def test_class_sets_take_every_combination_once_and_columns_know_their_class():
+    rng = np.random.default_rng(3)
+    sets = class_sets(6, 2, rng)
+    assert sorted(sets) == list(itertools.combinations(range(6), 2))  # 15 pairs, each once
+    assert class_sets(2, 5, rng) == [(0, 1)]
+    prog = build_program(_case("gross-45k"))
+    owner = class_of_column(prog)
+    assert set(owner.tolist()) == {0, 1}
+    for i, ci in enumerate(prog.cols.values()):
+        assert np.all(owner[ci.buy[ci.buy >= 0]] == i)
+
+
+@pytest.mark.parametrize("name", ["gross-45k", "net-26k"])
+def test_search_beside_finds_the_optimum_in_its_own_process_and_hands_it_over(name):
+    """SearchBeside (tenure.fleet.beside) runs the search in a process of its own: from a poor plan
+    it hands over better plans through offered(), each within every row, and ends (both classes
+    freed at once) at the exhaustive optimum; close() then returns the search's own result."""
+    from tenure.fleet.beside import SearchBeside
+
+    case = _case(name)
+    best, _ = exhaustive_optimum(case)
+    prog = build_program(case)
+    be = get_backend("highs")
+    x0 = _poor_start(prog, be)
+    costs = []
+    search = SearchBeside(prog, be, x0, 30.0, on_plan=costs.append)
+    search.found(float(prog.cost @ x0) + 1.0, x0)  # not better: nothing is sent, but the search starts
+    offered = []
+    until = time.perf_counter() + 60
+    while time.perf_counter() < until and not (offered and search.best[0] <= best + 0.01):
+        x = search.offered()
+        if x is not None:
+            offered.append(x)
+        time.sleep(0.05)
+    result = search.close()
+    assert close(search.best[0], best)
+    assert all(_within_rows(prog, x) for x in offered) and offered
+    assert costs == sorted(costs, reverse=True) and close(costs[-1], best)
+    assert result is not None and close(result.cost, best) and result.local_optimum
+
+
+def test_search_beside_takes_over_a_cheaper_plan_from_the_integer_program():
+    """A plan reported through found() that is cheaper than the search's own replaces it in the
+    search process: the search's result is then at least as good as that plan (here the optimum,
+    found by HiGHS on the whole program)."""
+    from tenure.fleet.beside import SearchBeside
+
+    case = _case("gross-38k")
+    best, _ = exhaustive_optimum(case)
+    prog = build_program(case)
+    be = get_backend("highs")
+    x0 = _poor_start(prog, be)
+    opt = be(prog).solve_mip(30, 0.0)
+    assert close(float(prog.cost @ np.round(opt.x)), best)
+    search = SearchBeside(prog, be, x0, 20.0)
+    search.found(float(prog.cost @ np.round(opt.x)), opt.x)
+    time.sleep(1.0)
+    search.found(float(prog.cost @ np.round(opt.x)), opt.x)
+    result = search.close()
+    assert close(search.best[0], best)
+    assert result is not None and close(result.cost, best)
+
+
+def test_a_search_that_never_started_costs_nothing():
+    from tenure.fleet.beside import SearchBeside
+
+    prog = build_program(_case("gross-45k"))
+    x0 = _poor_start(prog, get_backend("highs"))
+    search = SearchBeside(prog, get_backend("highs"), x0, 30.0, delay=60.0)
+    assert search.offered() is None
+    assert search.close() is None
+    assert np.array_equal(search.best[1], x0)
+
+
+@pytest.mark.parametrize("name", ["gross-45k", "gross-60k-van-limit-1"])
+def test_default_run_with_the_search_beside_from_the_start_is_still_exact(name, monkeypatch):
+    """The driver with the search joining at once (no delay): the run still ends at the exhaustive
+    optimum, called optimal, and the search's process is stopped."""
+    import multiprocessing
+
+    from tenure import fleet
+    from tenure.fleet import beside, driver
+
+    monkeypatch.setattr(beside, "DELAY", 0.0)
+    monkeypatch.setattr(driver, "BESIDE_SECONDS", 0.0)
+    case = _case(name)
+    best, _ = exhaustive_optimum(case)
+    plan = fleet.solve_capped(case, time_limit=60)
+    assert plan.status == "optimal" and close(plan.present_cost, best)
+    time.sleep(0.5)
+    assert not [p for p in multiprocessing.active_children() if p.is_alive()]
