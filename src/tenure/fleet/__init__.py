@@ -5,6 +5,8 @@
 - :mod:`.highs`, :mod:`.cbc`  the back ends (HiGHS through highspy, CBC as a process on an MPS file);
 - :mod:`.mps`       the program as MPS text;
 - :mod:`.rounding`  fix-and-relax by year, guided by the LP;
+- :mod:`.localsearch` a plan improved by re-planning two classes at a time;
+- :mod:`.beside`    that search in a process of its own beside the MIP, trading plans with it;
 - :mod:`.shortfall` the elastic program for caps that no plan fits;
 - :mod:`.flows`     integral flows to unit paths;
 - :mod:`.driver`    :func:`solve_capped`, the same sequence for every back end.
