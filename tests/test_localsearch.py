@@ -178,3 +178,35 @@ def test_default_run_with_the_search_beside_from_the_start_is_still_exact(name, 
     assert plan.status == "optimal" and close(plan.present_cost, best)
     time.sleep(0.5)
     assert not [p for p in multiprocessing.active_children() if p.is_alive()]
+
+
+def _three_class_doc():
+    """test_fleet's vans and carts plus a third class (one mower), under a cap that binds. Invented figures."""
+    from test_fleet import small_doc
+
+    doc = small_doc(cap=45000)
+    doc["asset_type"].append({"id": "mower-a", "class": "mower", "price": 9000, "max_age": 5,
+                              "om": {"first": 700, "gradient": 450}, "salvage": {"retain": 0.7}})
+    doc["unit"].append({"id": "M1", "type": "mower-a", "age": 3})
+    return doc
+
+
+def test_growing_neighbourhoods_free_more_classes_at_a_local_optimum():
+    """Three classes, one freed per step with ``grow``: at the local optimum of single classes the
+    search goes on with pairs, so it takes more steps than a round of singles after its last
+    improvement, ends no worse than without growing and no better than the exhaustive optimum."""
+    from tenure.case import build_case
+
+    case = build_case(_three_class_doc())
+    best, _ = exhaustive_optimum(case)
+    prog = build_program(case)
+    be = get_backend("highs")
+    x0 = _poor_start(prog, be)
+    plain = improve(prog, be, x0, time.perf_counter() + 60, size=1)
+    grown = improve(prog, be, x0, time.perf_counter() + 60, size=1, grow=True)
+    assert len(prog.cols) == 3
+    assert plain.local_optimum and grown.local_optimum
+    assert plain.steps <= 3 * (plain.improvements + 1)
+    assert grown.steps >= plain.steps + 3  # at least one round of the three pairs
+    assert best - 0.01 <= grown.cost <= plain.cost + 1e-6
+    assert _within_rows(prog, grown.x)

@@ -98,7 +98,8 @@ def _serve(inbox: Connection, outbox: Connection) -> None:
     writer = threading.Thread(target=write, daemon=True)
     writer.start()
     found = improve(prog, backend, x, time.perf_counter() + seconds, owner=owner, outside=outside,
-                    stopped=stop.is_set, on_better=lambda plan, cost: sends.put(_plan_message(cost, plan)))
+                    stopped=stop.is_set, grow=True,
+                    on_better=lambda plan, cost: sends.put(_plan_message(cost, plan)))
     sends.put(("done", found))
     writer.join(timeout=CLOSE_SECONDS)
 

@@ -90,7 +90,7 @@ def class_sets(n_classes: int, size: int, rng: np.random.Generator) -> list[tupl
 def improve(prog: CohortProgram, backend: type[Backend], x: np.ndarray, deadline: float, *,
             size: int = CLASSES_PER_STEP, step_seconds: float = STEP_SECONDS, seed: int = 0,
             log=None, on_better=None, owner: np.ndarray | None = None, outside=None,
-            stopped=None) -> SearchResult:
+            stopped=None, grow: bool = False) -> SearchResult:
     """A plan at least as good as ``x`` by re-planning ``size`` classes at a time (module docstring).
 
     Parameters
@@ -122,6 +122,11 @@ def improve(prog: CohortProgram, backend: type[Backend], x: np.ndarray, deadline
         the deadline).
     stopped : callable, optional
         Polled before each step; True ends the search.
+    grow : bool
+        At a local optimum, free one class more per step (while fewer than all classes), back to
+        ``size`` when a plan is taken over from outside.  Measured on the demo (four classes): from
+        the plan where two at a time found nothing better (61,863,687 after 30 s), three at a time
+        reached 61,760,714 in 25 s.
 
     Returns
     -------
@@ -141,8 +146,10 @@ def improve(prog: CohortProgram, backend: type[Backend], x: np.ndarray, deadline
     def over() -> bool:
         return deadline - time.perf_counter() < 0.2 or (stopped is not None and stopped())
 
+    width = size  # classes freed per step now
+
     def taken_over() -> bool:
-        nonlocal x, cost, local_optimum
+        nonlocal x, cost, local_optimum, width
         other = outside() if outside is not None else None
         if other is None:
             return False
@@ -151,11 +158,12 @@ def improve(prog: CohortProgram, backend: type[Backend], x: np.ndarray, deadline
         if c >= cost - tol:
             return False
         x, cost, local_optimum = other, c, False
+        width = size
         return True
 
     while n_classes and not over():
         all_exact, improved = True, False
-        for chosen in class_sets(n_classes, size, rng):
+        for chosen in class_sets(n_classes, width, rng):
             if over():
                 break
             improved = taken_over() or improved
@@ -174,7 +182,7 @@ def improve(prog: CohortProgram, backend: type[Backend], x: np.ndarray, deadline
                 res.bound is not None and cs - res.bound <= STEP_GAP * abs(cs) + 1e-6))
             # a step's optimum can only tie or beat its start; ties and rounding noise are not moves
             if cs < cost - tol:
-                x, cost, improved = xs, cs, True
+                x, cost, improved, local_optimum = xs, cs, True, False
                 improvements += 1
                 if on_better is not None:
                     on_better(x, cost)
@@ -185,11 +193,14 @@ def improve(prog: CohortProgram, backend: type[Backend], x: np.ndarray, deadline
             # is a local optimum when every step of it was solved exactly; it ends the search unless a
             # plan may still come from outside
             local_optimum = all_exact
+            if grow and width + 1 < n_classes:
+                width += 1
+                continue
             if outside is None:
                 break
             while not over() and not taken_over():
                 time.sleep(0.1)
-        elif n_classes <= size and outside is None:  # the one step freed every class: the whole program
+        elif n_classes <= width and outside is None:  # the one step freed every class: the whole program
             local_optimum = all_exact
             break
     if log:
