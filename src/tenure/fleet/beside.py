@@ -10,8 +10,9 @@ is cheaper.  The cheaper of the two at the end is the plan; the bound is the int
 alone, so the search changes no proof.
 
 The search starts only once the integer program has run for a while (``DELAY`` seconds), so that
-solves which end sooner pay nothing for it.  It needs a back end that reports its points during
-the solve (``Backend.trades_plans``), since that is when the search is started.
+solves which end sooner pay nothing for it: the solver's own callbacks start it.  With a back end
+that makes no calls during its solve (``Backend.trades_plans`` False: CBC, a process of its own),
+the search is started at once (:meth:`SearchBeside.start`) and the two meet only at the end.
 
 The process is a fresh interpreter running this module (``python -m tenure.fleet.beside``), with
 two pipes: never a copy of the caller's process (a fork inside the solver's callback would copy
@@ -128,6 +129,11 @@ class SearchBeside:
         self._lock = threading.Lock()
         self._fresh: np.ndarray | None = None  # the search's newest plan not yet offered
         self.result: SearchResult | None = None
+
+    def start(self) -> None:
+        """Start the search now, whatever the delay."""
+        self._delay = 0.0
+        self._start_when_due()
 
     def _start_when_due(self) -> None:
         if self._proc is not None or not AVAILABLE:

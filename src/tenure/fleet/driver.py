@@ -232,13 +232,13 @@ def _solve_program(run: _Run, gap: float) -> Plan:
 
 def _search_beside(run: _Run, prog, x, seconds: float, history: list, lp_bound: float):
     """The local search over classes in a process beside the MIP (:mod:`tenure.fleet.beside`), from the
-    whole-unit plan ``x``; None without a plan, with less than ``BESIDE_SECONDS`` to go, with a back
-    end that does not trade plans during its solve, or in a worker process (a sweep's or comparison's
-    workers already take the cores)."""
+    whole-unit plan ``x``; None without a plan, with less than ``BESIDE_SECONDS`` to go, or in a
+    worker process (a sweep's or comparison's workers already take the cores).  With a back end that
+    trades plans during its solve the search starts after ``beside.DELAY`` seconds of it; with one
+    that does not (CBC), at once, and the plans meet at the end."""
     import multiprocessing
 
-    if (x is None or seconds < BESIDE_SECONDS or not run.backend.trades_plans
-            or multiprocessing.parent_process() is not None):
+    if x is None or seconds < BESIDE_SECONDS or multiprocessing.parent_process() is not None:
         return None
 
     def better(cost: float) -> None:
@@ -248,8 +248,13 @@ def _search_beside(run: _Run, prog, x, seconds: float, history: list, lp_bound: 
 
     from .beside import DELAY, SearchBeside
 
-    run.log(f"a local search over {localsearch.CLASSES_PER_STEP} classes at a time joins it after {DELAY:g} s")
-    return SearchBeside(prog, run.backend, x, seconds, on_plan=better, delay=DELAY)
+    search = SearchBeside(prog, run.backend, x, seconds, on_plan=better, delay=DELAY)
+    if run.backend.trades_plans:
+        run.log(f"a local search over {localsearch.CLASSES_PER_STEP} classes at a time joins it after {DELAY:g} s")
+    else:
+        search.start()
+        run.log(f"a local search over {localsearch.CLASSES_PER_STEP} classes at a time runs beside it")
+    return search
 
 
 def _round(run: _Run, prog, be: Backend, lp, partial: list):
