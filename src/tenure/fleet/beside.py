@@ -56,7 +56,7 @@ def _plan_message(cost: float, x: np.ndarray):
 def _serve(inbox: Connection, outbox: Connection) -> None:
     """The search process: its task from ``inbox`` first, then the integer program's plans (or
     ``None``, stop); its better plans out to ``outbox`` as (cost, plan), last ("done", result).
-    A thread reads the inbox all the time, so the caller's writes never wait on the search, """
+    A thread reads the inbox all the time, so the caller's writes never wait on the search."""
     try:
         prog, owner, backend, x, seconds = inbox.recv()
     except (EOFError, OSError):  # the caller gave up before sending the task

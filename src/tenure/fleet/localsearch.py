@@ -177,9 +177,11 @@ def improve(prog: CohortProgram, backend: type[Backend], x: np.ndarray, deadline
             xs = x.copy()
             xs[free] = np.round(np.asarray(res.x, dtype=float))
             cs = float(prog.cost @ xs)
-            # solved when proven within STEP_GAP (a back end may say "optimal" only at a zero gap)
+            # solved when proven within STEP_GAP (a back end may say "optimal" only at a zero gap); the
+            # bound is the step's own, over the freed columns alone
+            step_cost = float(sub.cost @ xs[free])
             all_exact = all_exact and (res.status == "optimal" or (
-                res.bound is not None and cs - res.bound <= STEP_GAP * abs(cs) + 1e-6))
+                res.bound is not None and step_cost - res.bound <= STEP_GAP * abs(step_cost) + 1e-6))
             # a step's optimum can only tie or beat its start; ties and rounding noise are not moves
             if cs < cost - tol:
                 x, cost, improved, local_optimum = xs, cs, True, False
