@@ -8,6 +8,13 @@ come from the LP towards the best plan (*closed*). With ``--sample S`` the bound
 also printed every S seconds (HiGHS's ``cbMipInterrupt`` callback), which is how the 600 s trajectory
 in docs/benchmarks-fleet.md was taken.
 
+``--search S`` then runs the local search (``fleet.localsearch.improve``, ``--search-size`` classes a
+step, ``--search-step`` seconds a step, one class more at a local optimum) for S seconds from HiGHS's
+plan, and prints its plan and its gap against HiGHS's bound. For the plan it ends with, the line
+*split* divides the cost above the LP bound by the LP's prices: cost = LP bound + Σ (shadow price of a
+cap × money left unspent under it) + Σ (reduced cost × units), an identity of LP duality (any LP
+text; common practice).
+
 ``--option name=value`` sets a HiGHS option (repeatable). ``--counts year|cumulative`` adds one integer
 column per class and year equal to the class's purchases in that year (or up to that year), with its
 defining row: a candidate for better branching (common practice in lot sizing: branching on
@@ -19,6 +26,7 @@ Usage::
     python benchmarks/bench_bound.py demo --seconds 20
     python benchmarks/bench_bound.py demo --seconds 20 --option mip_pscost_minreliable=2
     python benchmarks/bench_bound.py 1000 --seconds 600 --sample 60 --gap 0
+    python benchmarks/bench_bound.py 1000 --seconds 600 --gap 0 --search 240 --search-size 4 --search-step 8
 """
 
 from __future__ import annotations
@@ -35,11 +43,13 @@ HERE = Path(__file__).resolve().parent
 REPO = HERE.parent
 sys.path.insert(0, str(HERE))
 
-from bench_fleet import SIZES  # noqa: E402
-from fleetgen import capped_case, invented_fleet  # noqa: E402
+from bench_fleet import SIZES
+from fleetgen import capped_case, invented_fleet
 
-from tenure import fleet  # noqa: E402
-from tenure.case import build_case, load_case  # noqa: E402
+from tenure import fleet
+from tenure.fleet import localsearch
+from tenure.fleet.highs import HighsBackend
+from tenure.case import build_case, load_case
 
 
 def load(name: str):
@@ -99,6 +109,9 @@ def main(argv=None) -> int:
     ap.add_argument("--counts", choices=("year", "cumulative"))
     ap.add_argument("--sample", type=float, default=0.0, help="print the bound every S seconds")
     ap.add_argument("--threads", type=int, default=2, help="HiGHS's threads (fixed for the whole process)")
+    ap.add_argument("--search", type=float, default=0.0, help="seconds of local search from HiGHS's plan")
+    ap.add_argument("--search-size", type=int, default=2)
+    ap.add_argument("--search-step", type=float, default=2.0)
     args = ap.parse_args(argv)
     if args.fleet != "demo" and args.fleet not in SIZES:
         ap.error(f"fleet {args.fleet!r}: allowed are demo, {', '.join(SIZES)}")
@@ -118,6 +131,7 @@ def main(argv=None) -> int:
     relax = highs(False)
     relax.run()
     lp = relax.getInfo().objective_function_value  # the LP bound, before the MIP's presolve
+    lp_sol = relax.getSolution()
     h = highs(True)
     h.setOptionValue("time_limit", args.seconds)
     h.setOptionValue("mip_rel_gap", args.gap)
@@ -148,7 +162,34 @@ def main(argv=None) -> int:
     print(f"{args.fleet} {args.seconds:g} s {args.threads} threads {' '.join(args.option) or 'defaults'}"
           f"{' counts=' + args.counts if args.counts else ''}: LP {lp:,.0f}  {found}  "
           f"nodes {info.mip_node_count}  wall {time.perf_counter() - t0:.1f} s")
+    if info.primal_solution_status != 2:
+        return 0
+    x = np.asarray(h.getSolution().col_value)[: prog.n_cols]
+    if args.search > 0:
+        res = localsearch.improve(prog, HighsBackend, x, time.perf_counter() + args.search, size=args.search_size,
+                                  step_seconds=args.search_step, grow=True)
+        x = res.x
+        print(f"search {args.search:g} s, {args.search_size} classes a step, {args.search_step:g} s a step: plan "
+              f"{res.cost:,.0f}  gap {(res.cost - bound) / abs(res.cost):.4%} against HiGHS's bound  "
+              f"({res.improvements} better plans in {res.steps} steps)")
+    n, m = prog.n_cols, prog.n_rows
+    caps, rows, cols = split(prog, x, np.asarray(lp_sol.col_value)[:n], np.asarray(lp_sol.row_dual)[:m],
+                             np.asarray(lp_sol.col_dual)[:n])
+    print(f"split: cost {prog.cost @ x:,.0f} = LP {lp:,.0f} + unspent cap {caps:,.0f} + other rows {rows:,.0f} "
+          f"+ dearer arcs {cols:,.0f}")
     return 0
+
+
+def split(prog, x, x_lp, row_dual, col_dual) -> tuple[float, float, float]:
+    """The cost of plan ``x`` above the LP optimum ``x_lp`` [money, time 0], by LP duality
+    (c = Aᵀy + d, so c·(x − x_lp) = y·A(x − x_lp) + d·(x − x_lp)): the caps' rows (shadow price × the
+    money left unspent under a binding cap), the other rows (limits, rules; zero for equalities) and the
+    columns (reduced cost × units on arcs the LP prices dearer).  The count columns' rows are left out:
+    they are equalities, met by both points."""
+    dx = x - x_lp
+    per_row = row_dual * (prog.matrix.tocsr() @ dx)
+    caps = prog.cap_rows[prog.cap_rows >= 0]
+    return float(per_row[caps].sum()), float(per_row.sum() - per_row[caps].sum()), float(col_dual @ dx)
 
 
 if __name__ == "__main__":

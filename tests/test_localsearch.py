@@ -18,7 +18,7 @@ from test_fleet import close, exhaustive_optimum
 from test_fleet_precision import MORE, SMALL, _case
 
 from tenure.fleet.backend import get_backend
-from tenure.fleet.localsearch import class_of_column, class_sets, improve
+from tenure.fleet.localsearch import class_of_column, class_sets, core_columns, improve, reduced_costs
 from tenure.fleet.program import build_program
 
 NAMES = list(SMALL) + list(MORE)
@@ -240,3 +240,79 @@ def test_a_step_proven_by_its_bound_counts_as_solved():
     x0 = _poor_start(prog, highs)
     r = improve(prog, BoundOnly, x0, time.perf_counter() + 60, size=1)
     assert r.local_optimum
+
+
+def _lp_and_optimum(prog, solver="highs"):
+    """The program's LP (back end ``solver``) and a whole-unit optimum (HiGHS, gap 0)."""
+    lp = get_backend(solver)(prog).solve_lp()
+    assert lp.status == "optimal"
+    opt = get_backend("highs")(prog).solve_mip(60, 0.0)
+    assert opt.status == "optimal"
+    return lp, np.round(opt.x)
+
+
+@pytest.mark.parametrize("solver", ["highs", "cbc"])
+@pytest.mark.parametrize("name", NAMES)
+def test_reduced_costs_meet_the_lp_optimality_conditions(name, solver):
+    """d = c − Aᵀy from either back end's row duals is dual feasible for the LP optimum: d ≥ 0 at a
+    column's lower bound, d ≤ 0 at its upper bound, d = 0 between (LP optimality conditions, any LP
+    text; common practice); and the LP bound equals y·b + d·x over the active bounds (strong duality).
+    With HiGHS, d is also HiGHS's own reduced cost of the same solve."""
+    prog = build_program(_case(name))
+    lp = get_backend(solver)(prog).solve_lp()
+    d = reduced_costs(prog, lp.row_duals)
+    x, scale = lp.x, max(1.0, float(np.abs(prog.cost).max()))
+    tol = 1e-6 * scale
+    at_lo, at_up = x <= prog.lower + 1e-7, x >= prog.upper - 1e-7
+    assert np.all(d[at_lo & ~at_up] >= -tol) and np.all(d[at_up & ~at_lo] <= tol)
+    assert np.all(np.abs(d[~at_lo & ~at_up]) <= tol)
+    act = prog.matrix @ x
+    y = np.asarray(lp.row_duals)
+    row_side = np.where(y > 0, prog.row_lower, np.where(y < 0, prog.row_upper, act))
+    assert close(float(y @ row_side + d @ x), float(prog.cost @ x))
+    if solver == "highs":
+        from tenure.fleet.highs import _load
+
+        h = _load(prog, prog.lower, prog.upper, np.zeros(prog.n_cols, dtype=np.int32))
+        h.run()
+        assert np.allclose(d, np.asarray(h.getSolution().col_dual), atol=tol)
+
+
+@pytest.mark.parametrize("name", NAMES)
+def test_a_core_at_the_whole_gap_keeps_every_column_of_the_optimum(name):
+    """Reduced-cost fixing (common practice): a plan costs at least the LP bound plus each column's
+    reduced cost times its units, so with the limit at the whole gap of the optimal plan itself the
+    core holds every column that plan uses, and the optimum is the exhaustive one.  Tighter cores
+    are nested inside it, and the cores always hold the LP's columns and the plan's."""
+    case = _case(name)
+    best, _ = exhaustive_optimum(case)
+    prog = build_program(case)
+    lp, opt = _lp_and_optimum(prog)
+    assert close(float(prog.cost @ opt), best)
+    whole = core_columns(prog, lp.x, lp.row_duals, opt, share=1.0)
+    assert np.all(whole[opt > 0.5])
+    tight = core_columns(prog, lp.x, lp.row_duals, opt, share=0.0)
+    assert np.all(whole[tight]) and np.all(tight[lp.x > 1e-9]) and np.all(tight[opt > 0.5])
+    d = reduced_costs(prog, lp.row_duals)
+    assert np.array_equal(~whole, (d > float(prog.cost @ opt - prog.cost @ lp.x)) & (opt < 0.5) & (lp.x <= 1e-9))
+
+
+def test_the_search_from_the_cores_leaves_them_and_ends_at_a_local_optimum():
+    """Three classes, two cores (the tightest only the LP's and the start's columns): the first steps
+    solve each core whole, then single classes in the last core; at a local optimum there the search
+    goes on in the whole program, so it ends at a local optimum of the whole program, no worse than
+    its start and no better than the exhaustive optimum, within every row."""
+    from tenure.case import build_case
+
+    case = build_case(_three_class_doc())
+    best, prog, be, x0 = _set_up(case)
+    lp = be(prog).solve_lp()
+    cores = [core_columns(prog, lp.x, lp.row_duals, x0, share) for share in (0.0, 0.01)]
+    assert cores[0].sum() < cores[1].sum() < prog.n_cols
+    seen = []
+    r = improve(prog, be, x0, time.perf_counter() + 60, size=1, grow=True, core=cores,
+                on_better=lambda x, cost: seen.append(cost))
+    assert r.local_optimum and _within_rows(prog, r.x)
+    assert best - 0.01 <= r.cost <= float(prog.cost @ x0) + 1e-6
+    assert r.steps >= 2 + 3  # the two cores whole, then at least one round of single classes
+    assert seen == sorted(seen, reverse=True) and len(seen) == r.improvements

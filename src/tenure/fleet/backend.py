@@ -52,6 +52,9 @@ class Backend(ABC):
     label: ClassVar[str] = ""
     #: True when :meth:`solve_mip` uses its ``exchange`` (calls it during the solve)
     trades_plans: ClassVar[bool] = False
+    #: the threads a solve may use; the search beside the integer program sets 1 in its own process,
+    #: so that it and the integer program's two threads share two cores rather than three
+    threads: ClassVar[int] = 2
 
     def __init__(self, prog: CohortProgram, integrality: np.ndarray | None = None):
         """``integrality`` (n_cols,) 1 for integer columns in :meth:`solve_mip` (default: all)."""

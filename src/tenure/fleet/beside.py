@@ -1,9 +1,10 @@
 """The local search over classes in a process of its own, beside the integer program.
 
-The integer program of HiGHS runs on one core (measured on the demo and the 1,000-unit benchmark
-fleet: 15.1 s and 14.4 s of CPU in 15 s of wall time on a 2-core machine), so the local search
-of :mod:`tenure.fleet.localsearch` runs beside it on the other, from the same first plan and to
-the same deadline.  They trade plans as they go: each better plan of the search is offered to the
+The integer program of HiGHS keeps about one core busy (measured on the demo and the 1,000-unit
+benchmark fleet: 15.1 s and 14.4 s of CPU in 15 s of wall time on a 2-core machine from its start
+plan; 25.9 s in 20 s from no start, HiGHS 1.16 using its second thread for part of the time), so
+the local search of :mod:`tenure.fleet.localsearch` runs beside it, with one solver thread of its
+own, from the same first plan and to the same deadline.  They trade plans as they go: each better plan of the search is offered to the
 integer program (a back end that takes plans during its solve prunes with it; one that does not
 simply finishes), and each better plan of the integer program replaces the search's own when it
 is cheaper.  The cheaper of the two at the end is the plan; the bound is the integer program's
@@ -58,7 +59,7 @@ def _serve(inbox: Connection, outbox: Connection) -> None:
     ``None``, stop); its better plans out to ``outbox`` as (cost, plan), last ("done", result).
     A thread reads the inbox all the time, so the caller's writes never wait on the search."""
     try:
-        prog, owner, backend, x, seconds = inbox.recv()
+        prog, owner, backend, x, seconds, core = inbox.recv()
     except (EOFError, OSError):  # the caller gave up before sending the task
         return
     plans: queue.Queue = queue.Queue()
@@ -98,8 +99,11 @@ def _serve(inbox: Connection, outbox: Connection) -> None:
 
     writer = threading.Thread(target=write, daemon=True)
     writer.start()
+    # one thread in this process: the integer program beside it has two (measured on the 1,000-unit
+    # benchmark fleet, the search alone in the core for 25 s: 1,109,890,664 with one, 1,109,899,545 with two)
+    backend.threads = 1
     found = improve(prog, backend, x, time.perf_counter() + seconds, owner=owner, outside=outside,
-                    stopped=stop.is_set, grow=True,
+                    stopped=stop.is_set, grow=True, core=core,
                     on_better=lambda plan, cost: sends.put(_plan_message(cost, plan)))
     sends.put(("done", found))
     writer.join(timeout=CLOSE_SECONDS)
@@ -116,14 +120,15 @@ class SearchBeside:
     """
 
     def __init__(self, prog: CohortProgram, backend: type[Backend], x: np.ndarray, seconds: float,
-                 on_plan=None, delay: float = 0.0):
+                 on_plan=None, delay: float = 0.0, core: list | None = None):
         """The search starts ``delay`` seconds after this object is made, at the first call of
         :meth:`offered` or :meth:`found` after that, from the best plan then and for the seconds left
         of ``seconds``: a solve that ends sooner never pays for a process.  ``on_plan(cost)`` is called
-        for each better plan the search hands over [money, time 0]."""
+        for each better plan the search hands over [money, time 0]; ``core`` (column masks, each
+        inside the next, :func:`~tenure.fleet.localsearch.core_columns`) is where the search starts."""
         x = np.round(np.asarray(x, dtype=float))
         self.best = (float(prog.cost @ x), x)
-        self._prog, self._backend, self._on_plan = prog, backend, on_plan
+        self._prog, self._backend, self._on_plan, self._core = prog, backend, on_plan, core
         self._t0, self._delay, self._seconds = time.perf_counter(), delay, seconds
         self._proc = None
         self._lock = threading.Lock()
@@ -162,7 +167,7 @@ class SearchBeside:
         self._receiver = threading.Thread(target=self._receive_all, daemon=True)
         self._receiver.start()
         slim = replace(self._prog, cols={}, starts={}, graphs={}, market_rhs={})
-        self._sends.put((slim, class_of_column(self._prog), self._backend, self.best[1], left))
+        self._sends.put((slim, class_of_column(self._prog), self._backend, self.best[1], left, self._core))
 
     def _send_all(self) -> None:
         try:

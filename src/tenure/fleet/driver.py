@@ -186,7 +186,7 @@ def _solve_program(run: _Run, gap: float) -> Plan:
             run.log(f"MIP ({label}) for up to {left:.0f} s from the {len(hint[0])} columns fix-and-relax fixed")
         else:
             run.log(f"MIP ({label}) for up to {left:.0f} s")
-        beside = _search_beside(run, prog, best_x, left, history, lp_bound)
+        beside = _search_beside(run, prog, best_x, left, history, lp_bound, lp)
         try:
             res = be.solve_mip(left, gap, best_x, _gap_recorder(run, history, lp_bound, trust_dual=hint is None),
                                **({"partial_start": hint} if hint is not None else {}),
@@ -230,12 +230,14 @@ def _solve_program(run: _Run, gap: float) -> Plan:
     return plan
 
 
-def _search_beside(run: _Run, prog, x, seconds: float, history: list, lp_bound: float):
+def _search_beside(run: _Run, prog, x, seconds: float, history: list, lp_bound: float, lp=None):
     """The local search over classes in a process beside the MIP (:mod:`tenure.fleet.beside`), from the
     whole-unit plan ``x``; None without a plan, with less than ``BESIDE_SECONDS`` to go, or in a
     worker process (a sweep's or comparison's workers already take the cores).  With a back end that
     trades plans during its solve the search starts after ``beside.DELAY`` seconds of it; with one
-    that does not (CBC), at once, and the plans meet at the end."""
+    that does not (CBC), at once, and the plans meet at the end.  On programs of at least
+    ``localsearch.CORE_MIN_CLASSES`` classes the search starts in the core of the LP ``lp``
+    (:func:`~tenure.fleet.localsearch.core_columns`)."""
     import multiprocessing
 
     if x is None or seconds < BESIDE_SECONDS or multiprocessing.parent_process() is not None:
@@ -248,12 +250,22 @@ def _search_beside(run: _Run, prog, x, seconds: float, history: list, lp_bound: 
 
     from .beside import DELAY, SearchBeside
 
-    search = SearchBeside(prog, run.backend, x, seconds, on_plan=better, delay=DELAY)
-    if run.backend.trades_plans:
-        run.log(f"a local search over {localsearch.CLASSES_PER_STEP} classes at a time joins it after {DELAY:g} s")
+    core = None
+    if lp is not None and lp.row_duals is not None and len(prog.cols) >= localsearch.CORE_MIN_CLASSES:
+        core = [localsearch.core_columns(prog, lp.x, lp.row_duals, x, share) for share in localsearch.CORE_SHARES]
+        run.stats["core_columns"] = [int(c.sum()) for c in core]
+    search = SearchBeside(prog, run.backend, x, seconds, on_plan=better, delay=DELAY, core=core)
+    what = ("a local search over classes, first in the LP's cores "
+            f"({' and '.join(f'{int(c.sum()):,}' for c in core)} of {prog.n_cols:,} columns)" if core is not None
+            else f"a local search over {localsearch.CLASSES_PER_STEP} classes at a time")
+    if run.backend.trades_plans and core is None:
+        run.log(f"{what} joins it after {DELAY:g} s")
     else:
+        # with a back end that makes no calls during its solve, or with a core whose first step is a
+        # long one (CORE_SECONDS), at once: on the 1,000-unit benchmark fleet the MIP has no better
+        # plan of its own in its first 16 s
         search.start()
-        run.log(f"a local search over {localsearch.CLASSES_PER_STEP} classes at a time runs beside it")
+        run.log(f"{what} runs beside it")
     return search
 
 

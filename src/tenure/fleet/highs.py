@@ -32,9 +32,9 @@ def new_highs():
     return h
 
 
-def _load(prog: CohortProgram, lower, upper, integrality):
+def _load(prog: CohortProgram, lower, upper, integrality, threads: int = 2):
     h = new_highs()
-    h.setOptionValue("threads", 2)
+    h.setOptionValue("threads", int(threads))
     h.passModel(prog.n_cols, prog.n_rows, prog.matrix.nnz, 1, 1, 0.0, prog.cost, lower, upper, prog.row_lower,
                 prog.row_upper, prog.a_start, prog.a_index, prog.a_value, integrality)
     return h
@@ -104,7 +104,7 @@ class HighsBackend(Backend):
     def solve_lp(self) -> LPResult:
         if self._lp is None:
             self._lp = _load(self.prog, self.prog.lower, self.prog.upper,
-                             np.zeros(self.prog.n_cols, dtype=np.int32))
+                             np.zeros(self.prog.n_cols, dtype=np.int32), self.threads)
         h = self._lp
         h.run()
         st = self._status(h)
@@ -121,7 +121,7 @@ class HighsBackend(Backend):
 
     def solve_mip(self, time_limit, gap, start=None, on_incumbent=None, partial_start=None,
                   exchange=None) -> MIPResult:
-        h = _load(self.prog, self.prog.lower, self.prog.upper, self.integrality)
+        h = _load(self.prog, self.prog.lower, self.prog.upper, self.integrality, self.threads)
         h.setOptionValue("time_limit", float(max(time_limit, 1.0)))
         h.setOptionValue("mip_rel_gap", float(gap))
         if on_incumbent is not None:
