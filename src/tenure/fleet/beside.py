@@ -4,9 +4,9 @@ The integer program of HiGHS keeps about one core busy (measured on the demo and
 benchmark fleet: 15.1 s and 14.4 s of CPU in 15 s of wall time on a 2-core machine from its start
 plan; 25.9 s in 20 s from no start, HiGHS 1.16 using its second thread for part of the time), so
 the local search of :mod:`tenure.fleet.localsearch` runs beside it, with one solver thread of its
-own, from the same first plan and to the same deadline.  They trade plans as they go: each better plan of the search is offered to the
-integer program (a back end that takes plans during its solve prunes with it; one that does not
-simply finishes), and each better plan of the integer program replaces the search's own when it
+own, from the same first plan and to the same deadline.  They trade plans as they go: each better
+plan of the search is offered to the integer program (a back end that takes plans during its solve
+prunes with it; one that does not simply finishes), and each better plan of the integer program replaces the search's own when it
 is cheaper.  The cheaper of the two at the end is the plan; the bound is the integer program's
 alone, so the search changes no proof.
 

@@ -230,7 +230,7 @@ def _solve_program(run: _Run, gap: float) -> Plan:
     return plan
 
 
-def _search_beside(run: _Run, prog, x, seconds: float, history: list, lp_bound: float, lp=None):
+def _search_beside(run: _Run, prog, x, seconds: float, history: list, lp_bound: float, lp):
     """The local search over classes in a process beside the MIP (:mod:`tenure.fleet.beside`), from the
     whole-unit plan ``x``; None without a plan, with less than ``BESIDE_SECONDS`` to go, or in a
     worker process (a sweep's or comparison's workers already take the cores).  With a back end that
@@ -251,7 +251,7 @@ def _search_beside(run: _Run, prog, x, seconds: float, history: list, lp_bound: 
     from .beside import DELAY, SearchBeside
 
     core = None
-    if lp is not None and lp.row_duals is not None and len(prog.cols) >= localsearch.CORE_MIN_CLASSES:
+    if lp.row_duals is not None and len(prog.cols) >= localsearch.CORE_MIN_CLASSES:
         core = [localsearch.core_columns(prog, lp.x, lp.row_duals, x, share) for share in localsearch.CORE_SHARES]
         run.stats["core_columns"] = [int(c.sum()) for c in core]
     search = SearchBeside(prog, run.backend, x, seconds, on_plan=better, delay=DELAY, core=core)

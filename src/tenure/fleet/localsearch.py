@@ -196,8 +196,6 @@ def improve(prog: CohortProgram, backend: type[Backend], x: np.ndarray, deadline
     cores = [np.asarray(c, dtype=bool) for c in (core if core is not None else ())]
     whole_steps = len(cores)  # the first steps: one core each, every class free
     in_core = bool(cores)
-    everything = np.ones(len(owner), dtype=bool)
-    universe = cores[-1] if cores else everything
 
     def first_width() -> int:
         return CORE_CLASSES if in_core else size
@@ -229,7 +227,8 @@ def improve(prog: CohortProgram, backend: type[Backend], x: np.ndarray, deadline
                 break
             improved = taken_over() or improved
             whole = steps < whole_steps
-            free = (np.isin(owner, chosen) & (cores[steps] if whole else universe)) | (owner < 0)
+            within = cores[steps] if whole else cores[-1] if in_core else True
+            free = (np.isin(owner, chosen) & within) | (owner < 0)
             sub = restricted(prog, matrix, free, x)
             limit = core_seconds if whole else step_seconds
             res = backend(sub).solve_mip(min(limit, deadline - time.perf_counter()), STEP_GAP, start=x[free])
@@ -257,7 +256,7 @@ def improve(prog: CohortProgram, backend: type[Backend], x: np.ndarray, deadline
             continue
         if in_core and not improved:
             # a local optimum within the core is none of the whole program: leave the core
-            in_core, universe, width = False, everything, size
+            in_core, width = False, size
             continue
         if not improved:
             # the same steps from the same plan give the same answers: a round without a better plan
@@ -271,7 +270,8 @@ def improve(prog: CohortProgram, backend: type[Backend], x: np.ndarray, deadline
                 break
             while not over() and not taken_over():
                 time.sleep(0.1)
-        elif not in_core and n_classes <= width and outside is None:  # the one step freed every class: the whole program
+        elif not in_core and n_classes <= width and outside is None:
+            # the one step freed every class: the whole program
             local_optimum = all_exact
             break
     if log:
