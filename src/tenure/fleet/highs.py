@@ -2,6 +2,7 @@
 
 from __future__ import annotations
 
+import math
 import os
 import sys
 import time
@@ -64,10 +65,24 @@ def _subscribe(h, on_incumbent: OnIncumbent) -> None:
         pass
 
 
-def _trade(h, exchange) -> None:
+def _trade(h, exchange, gap: float) -> None:
     """HiGHS's improving points go to ``exchange.found``; ``exchange.offered()`` comes in through the
     user-solution callback, which HiGHS calls many times a second during the solve (measured on the
-    demo: 56 calls in its first 7 s) and checks for feasibility before taking."""
+    demo: 56 calls in its first 7 s) and checks for feasibility before taking.
+
+    The solve is interrupted as soon as the exchange's best plan (``exchange.best``, the cheaper of
+    the two sides) is within ``gap`` of HiGHS's dual bound: HiGHS stops on its own incumbent only, and
+    a plan of the search reaches that incumbent only at HiGHS's next user-solution call (on the
+    1,000-unit benchmark fleet the gap was proven 5 s before HiGHS ended at its time limit)."""
+
+    def interrupt(e):
+        try:
+            cost = float(exchange.best[0])
+            bound = float(e.data_out.mip_dual_bound)
+            if math.isfinite(cost) and math.isfinite(bound) and cost - bound <= gap * max(abs(cost), 1e-9):
+                e.data_in.user_interrupt = True
+        except Exception:  # a callback must never break the solve
+            pass
 
     def improving(e):
         try:
@@ -86,6 +101,7 @@ def _trade(h, exchange) -> None:
     try:
         h.cbMipImprovingSolution.subscribe(improving)
         h.cbMipUserSolution.subscribe(user)
+        h.cbMipInterrupt.subscribe(interrupt)
     except AttributeError:  # older highspy without the callback API
         pass
 
@@ -127,7 +143,7 @@ class HighsBackend(Backend):
         if on_incumbent is not None:
             _subscribe(h, on_incumbent)
         if exchange is not None:
-            _trade(h, exchange)
+            _trade(h, exchange, float(gap))
         if start is not None:
             sol = h.getSolution()
             sol.col_value = list(start)
