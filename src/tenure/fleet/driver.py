@@ -15,7 +15,8 @@
    When it runs for more than a few seconds, a local search over two classes at a time
    (:mod:`tenure.fleet.localsearch`) joins it in a process of its own on the other core
    (:mod:`tenure.fleet.beside`); the two trade plans, the cheaper plan is kept, and the bound
-   is the integer program's alone.
+   is the integer program's alone.  The integer program stops once the cheaper plan is proven
+   within the gap by its bound, whichever side found it.
 
 When no plan fits the caps, the elastic program (:mod:`tenure.fleet.shortfall`)
 finds the least extra capital per year that makes one fit, and the plan under
