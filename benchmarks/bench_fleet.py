@@ -404,7 +404,8 @@ def main(argv=None) -> int:
             units, classes, seed, horizon, layer_limit, plain_limit = SIZES[n]
             doc = capped_case(invented_fleet(units, classes, seed=seed, horizon=horizon))
             case = build_case(doc)
-        print(f"== {n}: {units:,} units / {classes} classes / {horizon} years (seed {seed})", file=sys.stderr, flush=True)
+        print(f"== {n}: {units:,} units / {classes} classes / {horizon} years"
+              + ("" if seed is None else f" (seed {seed})"), file=sys.stderr, flush=True)
         row = {"name": n, "units": units, "classes": classes, "seed": seed, "horizon": horizon,
                "plain_limit": plain_limit}
         with tempfile.TemporaryDirectory(prefix=f"bench-fleet-{n}-") as tmp:

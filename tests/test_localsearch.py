@@ -14,10 +14,13 @@ from dataclasses import replace
 
 import numpy as np
 import pytest
+from casekit import REPO
 from test_fleet import close, exhaustive_optimum
 from test_fleet_precision import MORE, SMALL, _case
 
+from tenure.case import load_case
 from tenure.fleet.backend import get_backend
+from tenure.fleet.highs import HighsBackend
 from tenure.fleet.localsearch import class_of_column, class_sets, core_columns, improve, reduced_costs
 from tenure.fleet.program import build_program
 
@@ -158,17 +161,17 @@ def test_a_search_that_never_started_costs_nothing():
 
 
 class _PlanElsewhere:
-    """An exchange whose best plan (found elsewhere) costs ``cost``; it offers HiGHS nothing."""
+    """An exchange whose best plan (found elsewhere) costs ``cost``; it offers HiGHS nothing and
+    ignores HiGHS's plans."""
 
     def __init__(self, cost: float):
         self.best = (cost, None)
-        self.seen: list[float] = []
 
     def offered(self):
         return None
 
     def found(self, cost, plan):
-        self.seen.append(cost)
+        pass
 
 
 def test_highs_stops_once_the_plan_found_elsewhere_is_within_the_gap_of_its_bound():
@@ -176,13 +179,8 @@ def test_highs_stops_once_the_plan_found_elsewhere_is_within_the_gap_of_its_boun
     gap of HiGHS's dual bound, whoever found that plan.  A plan elsewhere at cost 1 (below any bound of
     the demo, whose LP bound is about 61.6 million) is within the gap at HiGHS's first finite bound,
     so the solve ends there: not optimal by HiGHS's own incumbent, with a bound that is still a valid
-    one (at most the plan HiGHS kept, and at least the LP bound).  A
-    plan elsewhere at +inf never stops it: the same solve at a loose gap ends optimal on its own."""
-    from tenure.case import load_case
-    from tenure.fleet.highs import HighsBackend
-
-    from casekit import REPO
-
+    one (at most the plan HiGHS kept, and at least the LP bound).  A plan elsewhere at +inf never
+    stops it: the same solve at a loose gap ends optimal on its own."""
     prog = build_program(load_case(REPO / "cases" / "quillmere-fleet.toml"))
     be = get_backend("highs")
     lp = be(prog).solve_lp()
