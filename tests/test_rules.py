@@ -38,7 +38,7 @@ from tenure.fleet.program import build_program
 from tenure.fleet.reserve import RESERVE_FRACTION, reserved
 from tenure.fleet.rounding import fix_and_relax
 from tenure.report.tables import write_plan
-from tenure.scenarios import case_with, coerce
+from tenure.scenarios import case_with, coerce, recost
 from tenure.solve import solve
 
 Y0, H = 2030, 4
@@ -248,6 +248,39 @@ def test_class_sizes_grow_and_shrink_match_enumeration():
     case, plan, _ = check_plan_equals_enumeration(doc, new_slots=1, allow_sell=True, sizes=sizes_of(3, 4, 4, 2))
     assert [y.in_service for y in plan.years] == [3, 4, 4, 2]
     assert sum(y.buys for y in plan.years) >= 1 and sum(y.sells for y in plan.years) >= 2
+
+
+def test_recost_of_a_growing_and_shrinking_class_equals_the_enumerated_optimum():
+    # the schedule of a plan whose class grows (a unit bought from nothing) and shrinks (units sold
+    # without a replacement), re-costed under its own case from tenure.curves, costs what exhaustive
+    # search says is least, and breaks nothing; under a scenario needing one unit more from 2033 the
+    # same schedule is flagged on the class size (the regret table of `tenure compare`)
+    doc = rules_doc(demand=[{"class": "bus", "count_by_year": {"2031": 4, "2033": 2}}])
+    case, plan, opt = check_plan_equals_enumeration(doc, new_slots=1, allow_sell=True, sizes=sizes_of(3, 4, 4, 2))
+    d = plan.to_dict()
+    assert any(not u["start_type"] for u in d["units"])  # the plan holds a unit bought from nothing
+    assert any(e["action"] == "sell" for u in d["units"] for e in u["events"])
+    r = recost(d, case)
+    assert r.breaks == () and r.cost == pytest.approx(opt, rel=REL)
+    more = recost(d, case_with(case, {"demand.bus.count_by_year.2033": 3}))
+    assert more.breaks == ("class bus: 2 units in service in 2033, the rules need 3",)
+    assert more.cost == pytest.approx(opt, rel=REL)  # the same schedule, the same prices
+
+
+def test_recost_flags_a_target_and_an_order_the_schedule_does_not_keep():
+    # a plan solved without rules, re-costed under a case with a target of electric buys from 2031
+    # and under one with an order of a diesel bus in 2032: the schedule (electric buys in 2031 and 2032,
+    # a diesel one in 2033; checked on its events below) keeps neither, so neither scenario may treat
+    # it as a plan it can carry out
+    case = build_case(rules_doc())
+    d = solve(case, time_limit=30, gap=0.0).to_dict()
+    bought = sorted((e["year"], e["type"]) for u in d["units"] for e in u["events"] if e["type"])
+    assert bought == [(2031, "bev"), (2032, "bev"), (2033, "dsl")]
+    r = recost(d, build_case(rules_doc(target=[{"types": ["bev"], "share_of_buys": 1.0, "from": 2031}])))
+    assert len(r.breaks) == 1 and r.breaks[0].endswith(": not met in 2033") and r.cost == pytest.approx(d["present_cost"], abs=0.01)
+    r = recost(d, build_case(rules_doc(order=[{"type": "dsl", "year": 2032, "count": 1}])))
+    assert "order of 1 dsl in 2032: only 0 bought" in r.breaks
+    assert not r.feasible
 
 
 def test_pure_class_size_change_is_a_network_flow_solved_by_its_lp():

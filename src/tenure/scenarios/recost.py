@@ -2,9 +2,12 @@
 
 :func:`recost` lays a plan's schedule on another scenario's case (each
 unit's replacements in the same years with the same types, costs from
-:mod:`tenure.curves` under that case, timed as in ``docs/conventions.md``)
-and lists the rules it breaks there (caps, purchase limits, max ages, types
-that cannot be bought).  A case with ``tax_rate`` is re-costed after tax
+:mod:`tenure.curves` under that case, timed as in ``docs/conventions.md``;
+units bought from nothing or sold without a replacement, as a class grows or
+shrinks, are kept as the plan has them) and lists the rules it breaks there:
+caps, purchase limits, max ages, types that cannot be bought, and the
+coupling rules of :mod:`tenure.fleet.rules_check` (class sizes, orders,
+targets, emission caps).  A case with ``tax_rate`` is re-costed after tax
 (docs/conventions.md, "Income tax"): the present cost the solve reports.
 :func:`regret_table` re-costs every scenario's plan
 under every scenario: regret of plan *i* under scenario *j* is its cost
@@ -24,7 +27,9 @@ from typing import Mapping, Sequence
 import numpy as np
 
 from .. import curves, derived, life, tax
+from ..fleet import rules_check
 from ..model import Case, Overhaul
+from ..plan import Event, UnitPlan
 from .tasks import round2 as _r
 
 #: relative tolerance of the cap check when re-costing
@@ -73,41 +78,59 @@ class _UnknownType(Exception):
     """The plan buys a type the scenario does not have."""
 
 
-def _unit_cost(case: Case, row, events, v: np.ndarray, grids: dict, chain_costs: dict, books) -> float:
+def _unit_cost(case: Case, start, events, v: np.ndarray, grids: dict, chain_costs: dict, books) -> float:
     """Present cost [money, time 0] of one unit's fixed schedule under ``case``; adds its capital,
-    proceeds and purchases by year and the rules it breaks to ``books``."""
+    proceeds and purchases by year and the rules it breaks to ``books``.
+
+    ``start`` is the unit's inventory row, or the class of a unit the plan buys from nothing (a
+    class growing under ``[[demand]]`` or an order); such a unit is held from its "buy" on, takes
+    the class's first job (docs/case-format.md) and, like any unit, leaves at a "sell"."""
     s = case.study
     y0, H = s.start_year, s.horizon
     capital, proceeds, buys, broken = books
     types = {t.id: t for t in case.types}
-    t, a = types[row.type], row.age
-    cls = t.class_
-    # usage and overhaul: docs/conventions.md ("Usage", "Overhaul"), the rules of tenure.derived
-    u, oh, ov = derived.job_usage(case, row, grids[cls]), None, None
-    ev = {e["year"]: e["type"] for e in events if e.get("action") != "overhaul"}
+    if isinstance(start, str):
+        t, a, cls = None, 0, start
+        u = derived.class_jobs(case, cls)[0]
+    else:
+        t, a = types[start.type], start.age
+        cls = t.class_
+        # usage and overhaul: docs/conventions.md ("Usage", "Overhaul"), the rules of tenure.derived
+        u = derived.job_usage(case, start, grids[cls])
+    oh, ov = None, None
+    ev = {e["year"]: e for e in events if e.get("action") != "overhaul"}
     ovh = {e["year"] for e in events if e.get("action") == "overhaul"}
     total = 0.0
     for k in range(H):
         y = y0 + k
+        e = ev.get(y)
+        if t is None:  # not held: only a purchase from nothing starts the unit
+            if e is not None and e.get("type"):
+                new = _bought(types, e["type"], y, cls, broken)
+                p = curves.price(new, y, y0)
+                total += v[k] * p + v[k + 1] * _year_cash(case, new, 0, None, None, u, y)
+                capital[k] += p
+                buys[k][new.class_] += 1
+                t, a = new, 1
+            elif e is not None or y in ovh:
+                broken[f"{y}: the plan acts on a unit it does not hold"] += 1
+            continue
         if y in ovh:
             ov = _overhaul_of(t, a, oh, y, broken)
             oh = a
             total += v[k] * ov.cost + v[k + 1] * _year_cash(case, t, a, oh, ov, u, y)
             capital[k] += ov.cost
             a += 1
-        elif y in ev:
-            new = types.get(ev[y])
-            if new is None:
-                raise _UnknownType(f"{y}: the plan buys type {ev[y]!r}, unknown in the scenario")
-            if new.class_ != cls:
-                broken[f"{y}: buys {new.id} (class {new.class_}) for a {cls} unit"] += 1
-            if not new.buyable(y):
-                broken[f"{y}: buys {new.id}, which can be bought only {_window(new)}"] += 1
-            p = curves.price(new, y, y0)
-            total += v[k] * (p - _sale_cash(case, t, a, oh, u, y)) + v[k + 1] * _year_cash(case, new, 0, None,
-                                                                                            None, u, y)
-            capital[k] += p
+        elif e is not None:
+            total -= v[k] * _sale_cash(case, t, a, oh, u, y)
             proceeds[k] += float(derived.value_at(t, a, y, y0, derived.ratio(t, u)))
+            if not e.get("type"):  # sold without a replacement (a shrinking class)
+                t, a, oh = None, 0, None
+                continue
+            new = _bought(types, e["type"], y, cls, broken)
+            p = curves.price(new, y, y0)
+            total += v[k] * p + v[k + 1] * _year_cash(case, new, 0, None, None, u, y)
+            capital[k] += p
             buys[k][new.class_] += 1
             t, a, oh = new, 1, None
         else:
@@ -116,7 +139,22 @@ def _unit_cost(case: Case, row, events, v: np.ndarray, grids: dict, chain_costs:
                 broken[f"{y}: keeps a {t.id} at age {a}, its max age is {top}"] += 1
             total += v[k + 1] * _year_cash(case, t, a, oh, ov, u, y)
             a += 1
+    if t is None:
+        return total
     return total + v[H] * _end_cost(case, t, a, oh, u, chain_costs.get(t.class_))
+
+
+def _bought(types: dict, type_id: str, y: int, cls: str, broken: Counter):
+    """The type a plan buys in ``y`` for a unit of class ``cls``; counted in ``broken`` when it is of
+    another class or cannot be bought in ``y`` (it is then priced as bought)."""
+    new = types.get(type_id)
+    if new is None:
+        raise _UnknownType(f"{y}: the plan buys type {type_id!r}, unknown in the scenario")
+    if new.class_ != cls:
+        broken[f"{y}: buys {new.id} (class {new.class_}) for a {cls} unit"] += 1
+    if not new.buyable(y):
+        broken[f"{y}: buys {new.id}, which can be bought only {_window(new)}"] += 1
+    return new
 
 
 def _year_cash(case: Case, t, a: int, oh, ov, u, y: int) -> float:
@@ -171,13 +209,17 @@ def recost(plan_dict: Mapping, case: Case) -> Recost:
                              f"the scenario {y0}–{y0 + H - 1}",))
     names = [n for u in case.units for n in u.names()]
     plan_units = plan_dict.get("units", [])
-    plan_names = [u["unit"] for u in plan_units]
+    held = [u for u in plan_units if u.get("start_type")]  # the rest the plan buys from nothing
+    plan_names = [u["unit"] for u in held]
     if sorted(plan_names) != sorted(names):
         extra = sorted(set(plan_names) - set(names))
         missing = sorted(set(names) - set(plan_names))
         return Recost(None, ("the plan's units differ from the scenario's inventory"
                              + (f"; not in the scenario: {', '.join(extra[:5])}" if extra else "")
                              + (f"; not in the plan: {', '.join(missing[:5])}" if missing else ""),))
+    unknown = sorted({u.get("class", "") for u in plan_units if not u.get("start_type")} - set(case.classes))
+    if unknown:
+        return Recost(None, (f"the plan adds units of class {', '.join(map(repr, unknown))}, unknown in the scenario",))
     v = (1.0 + rate) ** -np.arange(H + 1, dtype=float)
     capital, proceeds = np.zeros(H), np.zeros(H)
     buys: list[Counter] = [Counter() for _ in range(H)]
@@ -188,14 +230,41 @@ def recost(plan_dict: Mapping, case: Case) -> Recost:
     total = 0.0
     try:
         for pu in plan_units:
-            total += _unit_cost(case, row_of[pu["unit"]], pu["events"], v, grids, chain_costs, books)
+            start = row_of[pu["unit"]] if pu.get("start_type") else pu["class"]
+            total += _unit_cost(case, start, pu["events"], v, grids, chain_costs, books)
     except _UnknownType as exc:
         return Recost(None, (str(exc),))
     broken = books[3]
     _budget_breaks(case, capital, proceeds, buys, broken)
+    for msg in rules_check.breaks(case, schedule_of(plan_dict, case)):
+        broken[msg] += 1
     msgs = tuple(m if n == 1 or "cap" in m or "limit" in m else f"{m} ({n} units)"
                  for m, n in sorted(broken.items(), key=lambda kv: kv[0][:4]))
     return Recost(float(total), msgs, tuple(float(c) for c in capital))
+
+
+@dataclass(frozen=True)
+class Schedule:
+    """A plan's unit schedules read back from ``Plan.to_dict()``: what the rule checks of
+    :mod:`tenure.service` read of a plan (its ``units``), with the units' starts taken from ``case``."""
+
+    units: tuple[UnitPlan, ...]
+
+
+def schedule_of(plan_dict: Mapping, case: Case) -> Schedule:
+    """The unit schedules of ``plan_dict`` as :class:`~tenure.plan.UnitPlan` objects (costs left at 0:
+    only the schedule is read)."""
+    ages = {n: u.age for u in case.units for n in u.names()}
+    out = []
+    for u in plan_dict.get("units", []):
+        evs = tuple(Event(year=int(e["year"]), action=e.get("action", ""), from_type=e.get("from_type") or "",
+                          from_age=int(e.get("from_age") if e.get("from_age") is not None else -1),
+                          type=e.get("type") or "", price=0.0, market_value=0.0) for e in u.get("events", []))
+        start = u.get("start_type") or ""
+        out.append(UnitPlan(unit=u["unit"], class_=u.get("class", ""), start_type=start,
+                            start_age=ages.get(u["unit"]) if start else None, events=evs, present_cost=0.0,
+                            end_type="", end_age=0))
+    return Schedule(tuple(out))
 
 
 def _overhaul_of(t, a: int, oh, y: int, broken: Counter) -> Overhaul:
