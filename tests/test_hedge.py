@@ -302,3 +302,68 @@ def test_compare_commit_regret(tmp_path):
     assert checked >= 6
     assert "commit_regret" in cmp.to_dict() and "max_regret_commit_1" in compare_csv(cmp)
     assert "then re-planning" in compare_text(cmp)
+
+
+# ---------------------------------------------------------------------------
+# jobs of several usages, overhauls and classes that grow or shrink
+# ---------------------------------------------------------------------------
+def bus_jobs_doc() -> dict:
+    """Four buses in two jobs (one runs 65,000 km a year) with a mid-life overhaul, under a cap
+    (the invented fleet of tests/test_usage_overhaul.py)."""
+    from test_usage_overhaul import bus_doc
+
+    units = [{"id": "A", "type": "bus", "age": 3}, {"id": "B", "type": "bus", "age": 4},
+             {"id": "C", "type": "bus", "age": 3, "usage": 65000}, {"id": "D", "type": "bus", "age": 5}]
+    return bus_doc(horizon=4, units=units, budget={"cap": 110000})
+
+
+def resized_doc() -> dict:
+    """The three-bus fleet of tests/test_rules.py growing to 4 in 2031 and shrinking to 2 in 2033."""
+    from test_rules import rules_doc
+
+    return rules_doc(demand=[{"class": "bus", "count_by_year": {"2031": 4, "2033": 2}}])
+
+
+def test_commitment_keys_cover_every_first_years_column_of_jobs_and_overhauls():
+    # a column of the first years without a key is neither tied across scenarios nor fixed by a
+    # commitment: each job's and each overhauled row's columns need keys of their own (counted)
+    from tenure.fleet.program import build_program
+    from tenure.hedge.stage import column_keys
+
+    prog = build_program(build_case(bus_jobs_doc()))
+    assert prog.graphs["bus"].labels is not None and any(ci.overhaul is not None for ci in prog.cols.values())
+    years = prog.column_years()
+    for n in (1, 2, 4):
+        assert sorted(column_keys(prog, n).values()) == list(np.flatnonzero((years >= 0) & (years < n)))
+
+
+@pytest.mark.parametrize("make_doc", [bus_jobs_doc, resized_doc])
+def test_a_plan_committed_for_the_whole_horizon_costs_what_it_cost(make_doc):
+    # the plan's schedule as the flows of every year (overhauls, two jobs; units added and sold without
+    # a replacement), held fixed in the cohort program, leaves one point: its cost is the plan's
+    # present cost, which exhaustive search confirms in tests/test_usage_overhaul.py and test_rules.py
+    from tenure.fleet.program import build_program
+    from tenure.hedge.stage import Stage, make_replan_task, plan_flows, replan_task
+
+    case = build_case(make_doc())
+    plan = solve(case, gap=0.0, time_limit=60)
+    acts = {e.action for u in plan.units for e in u.events}
+    assert acts >= ({"overhaul", "replace"} if make_doc is bus_jobs_doc else {"buy", "sell", "replace"})
+    fixed = plan_flows(plan.to_dict(), build_program(case), case.study.horizon)
+    r = replan_task(make_replan_task(Stage("base", 1.0, {}, case), case, case.study.horizon, EXACT, fixed=fixed))
+    assert r["status"] == "optimal" and r["cost"] == pytest.approx(plan.present_cost, rel=1e-9)
+
+
+@pytest.mark.parametrize("make_doc", [bus_jobs_doc, resized_doc])
+def test_one_scenario_hedge_commits_the_plans_own_first_years(make_doc):
+    # with no other scenario the best commitment is the optimal plan's first two years: every
+    # replacement, purchase of an added unit, overhaul and sale of it (two-stage program with one
+    # scenario; Birge and Louveaux, from memory)
+    case = build_case(make_doc())
+    h = hedge(case, [], commit_years=2, options=EXACT)
+    plan = solve(case, gap=0.0)
+    assert h.expected_cost == pytest.approx(plan.present_cost, rel=1e-9)
+    planned = sorted((e.year, e.action, e.type or e.from_type) for u in plan.units for e in u.events
+                     if e.year < case.study.start_year + 2)
+    committed = sorted((c.year, c.action, c.type) for c in h.commitment if c.action != "keep")
+    assert committed == planned and committed

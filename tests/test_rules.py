@@ -267,6 +267,24 @@ def test_recost_of_a_growing_and_shrinking_class_equals_the_enumerated_optimum()
     assert more.cost == pytest.approx(opt, rel=REL)  # the same schedule, the same prices
 
 
+def test_year_actions_of_a_growing_and_shrinking_class_name_purchases_and_sales():
+    # the codes compare reports for a year: a unit the plan adds is "buy:<type>" in its year and is
+    # not held before; a unit sold without a replacement is "sell" and is not held after; sizes are
+    # the demand's (3, 4, 4, 2), counted from the codes
+    from tenure.report.html import actions_text
+    from tenure.scenarios import first_year_actions
+
+    case = build_case(rules_doc(demand=[{"class": "bus", "count_by_year": {"2031": 4, "2033": 2}}]))
+    d = solve(case, time_limit=30, gap=0.0).to_dict()
+    acts = {y: first_year_actions(d, y) for y in case.study.years}
+    held = [sum(a != "sell" for a in acts[y].values()) for y in case.study.years]
+    assert held == [3, 4, 4, 2]
+    added = [u["unit"] for u in d["units"] if not u["start_type"]]
+    assert len(added) == 1 and added[0] not in acts[2030] and acts[2031][added[0]].startswith("buy:")
+    assert sum(a == "sell" for a in acts[2033].values()) == 2
+    assert "sell, not replaced 2" in actions_text(acts[2033])
+
+
 def test_recost_flags_a_target_and_an_order_the_schedule_does_not_keep():
     # a plan solved without rules, re-costed under a case with a target of electric buys from 2031
     # and under one with an order of a diesel bus in 2032: the schedule (electric buys in 2031 and 2032,

@@ -31,8 +31,9 @@ HEDGE_KEYS = ("commitment", "scenarios", "expected_cost", "max_regret", "evpi", 
 
 @dataclass(frozen=True)
 class CommitAction:
-    """What one unit does in one committed year: ``action`` "keep" (``type`` the held type) or
-    "replace" (``type`` the type bought)."""
+    """What one unit does in one committed year: ``action`` "keep", "overhaul" or "sell" (``type``
+    the held type; "sell": sold without a replacement, as a class shrinks), "replace" or "buy"
+    (``type`` the type bought; "buy": a unit the plan adds, bought without a sale)."""
 
     unit: str
     year: int
@@ -93,8 +94,13 @@ class Hedge:
 
     @property
     def buys(self) -> tuple[CommitAction, ...]:
-        """The committed replacements (the buy list)."""
-        return tuple(c for c in self.commitment if c.action == "replace")
+        """The committed purchases, replacements and added units (the buy list)."""
+        return tuple(c for c in self.commitment if c.action in ("replace", "buy"))
+
+    @property
+    def other_actions(self) -> tuple[CommitAction, ...]:
+        """The committed overhauls and sales without a replacement."""
+        return tuple(c for c in self.commitment if c.action in ("overhaul", "sell"))
 
     def to_dict(self) -> dict:
         """The ``hedge.json`` document (exactly :data:`HEDGE_KEYS`)."""

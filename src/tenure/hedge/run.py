@@ -58,8 +58,8 @@ def hedge(case: Case, scenarios: Sequence[Scenario], *, commit_years: int, objec
         if not solved(r["status"]):
             raise NoCommonCommitment(f"scenario {st.id} has no plan on its own: {r.get('message', r['status'])}")
     own_cost = [float(r["present_cost"]) for r in own]
-    seed = plan_flows(own[0]["plan"], sts[0].case, commit_years)
     progs = [build_program(st.case) for st in sts]
+    seed = plan_flows(own[0]["plan"], progs[0], commit_years)
     keys = [column_keys(p, commit_years) for p in progs]
     common, forbidden = split_keys(keys)
     size = sum(p.n_cols for p in progs)
@@ -164,10 +164,17 @@ def _unit_actions(case: Case, prog, x: np.ndarray, n: int) -> tuple[CommitAction
     for grp in groups:
         g = prog.graphs[grp.class_]
         for name in grp.units:
-            for st in grp.steps[:n]:
+            for st in grp.steps:
+                if st.k >= n:
+                    continue
                 if st.action == chain.KEEP:
-                    out.append(CommitAction(name, y0 + st.k, "keep", g.types[st.type]))
-                else:
-                    out.append(CommitAction(name, y0 + st.k, "replace", g.types[st.action]))
+                    act, t = "keep", st.type
+                elif st.action == chain.SELL:
+                    act, t = "sell", st.type
+                elif st.action == chain.OVERHAUL:
+                    act, t = "overhaul", st.type
+                else:  # a purchase: with a sale ("replace") or, for a unit the plan adds, without ("buy")
+                    act, t = ("buy" if st.type == chain.NEW else "replace"), st.action
+                out.append(CommitAction(name, y0 + st.k, act, g.types[t]))
     out.sort(key=lambda c: (order.get(c.unit, len(order)), c.year))
     return tuple(out)

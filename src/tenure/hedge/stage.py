@@ -2,9 +2,12 @@
 column of the first planning years, and the re-plan of one scenario from a fixed commitment.
 
 A column of the cohort program (:mod:`tenure.fleet.program`) is matched across scenarios by its
-*meaning*, the key ``(class, k, kind, type id, age)`` with ``kind`` "keep", "sell" or "buy" (age
-0 for a purchase), never by its position: two scenarios with other buy windows or max ages have
-other column lists.
+*meaning*, the key ``(class, k, kind, row, age)`` with ``kind`` "keep", "sell", "overhaul" or "buy"
+(age 0 for a purchase) and ``row`` the name of the state graph's row: the type id, with
+``@usage`` for a job off the reference usage and ``+ohA`` after an overhaul at age A
+(:mod:`tenure.derived`), so that two jobs or an overhauled and a plain unit of one type never share
+a key.  Never by its position: two scenarios with other buy windows or max ages have other
+column lists.
 
 :func:`replan_task` is the one picklable unit of work of the hedge layer (an own optimum, a
 scenario re-planned from a commitment, or a Lagrangian subproblem with changed costs); it runs
@@ -24,7 +27,7 @@ from ..fleet.program import CohortProgram, build_program
 from ..model import Case, Scenario
 from ..scenarios.overrides import SCENARIO_FILE_KEYS, apply_overrides, case_with
 
-#: a column's meaning: (class, planning-year index k, "keep" | "sell" | "buy", type id, age)
+#: a column's meaning: (class, planning-year index k, "keep" | "sell" | "overhaul" | "buy", row name, age)
 Key = tuple[str, int, str, str, int]
 
 
@@ -66,16 +69,23 @@ def stages(case: Case, scenarios: Sequence[Scenario]) -> list[Stage]:
     return out
 
 
+def row_names(g) -> tuple[str, ...]:
+    """The name of each row of state graph ``g``: its type id, or the derived row's label."""
+    return g.labels if g.labels is not None else g.types
+
+
 def column_keys(prog: CohortProgram, years: int) -> dict[Key, int]:
     """``{key: column}`` of every column of planning years ``k < years`` (sorted by key)."""
     out: dict[Key, int] = {}
     for cls, ci in prog.cols.items():
-        types = prog.graphs[cls].types
-        for kind, arr in (("keep", ci.keep), ("sell", ci.sell)):
+        names = row_names(prog.graphs[cls])
+        for kind, arr in (("keep", ci.keep), ("sell", ci.sell), ("overhaul", ci.overhaul)):
+            if arr is None:
+                continue
             for k, t, a in zip(*np.nonzero(arr[:years] >= 0)):
-                out[(cls, int(k), kind, types[t], int(a))] = int(arr[k, t, a])
+                out[(cls, int(k), kind, names[t], int(a))] = int(arr[k, t, a])
         for k, t in zip(*np.nonzero(ci.buy[:years] >= 0)):
-            out[(cls, int(k), "buy", types[t], 0)] = int(ci.buy[k, t])
+            out[(cls, int(k), "buy", names[t], 0)] = int(ci.buy[k, t])
     return dict(sorted(out.items()))
 
 
@@ -90,29 +100,72 @@ def capital_by_year(prog: CohortProgram, x: np.ndarray, start_year: int) -> dict
     return {str(start_year + k): float(cap[k]) for k in range(H)}
 
 
-def plan_flows(plan_dict: Mapping, case: Case, years: int) -> dict[Key, int]:
+def plan_flows(plan_dict: Mapping, prog: CohortProgram, years: int) -> dict[Key, int]:
     """The flows of planning years ``k < years`` of a ``Plan.to_dict()``, by key [units].
 
-    Each unit walks from its start state: a year with an event sells it at its state and buys
-    the event's type (age 1 next year), any other year keeps it (one year older).
+    Each unit walks the rows of its class's state graph from its start state (``prog.starts``):
+    a "replace" sells it and buys the event's type in the same job (age 1 next year), an
+    "overhaul" moves it to the overhauled row (one year older), a "sell" ends it, a "buy" starts
+    a unit the plan adds (in the class's first job, as the program's market rows have it), and
+    any other year keeps it (one year older).  ``ValueError`` for a schedule the program cannot
+    carry (another inventory, a type or overhaul it lacks).
     """
-    class_of = {t.id: t.class_ for t in case.types}
-    y0 = case.study.start_year
+    start = {nm: (cls, t, a) for cls, st in prog.starts.items() for (t, a), names in st.items() for nm in names}
     out: dict[Key, int] = {}
+
+    def add(key):
+        out[key] = out.get(key, 0) + 1
+
     for u in plan_dict["units"]:
-        t, a = u["start_type"], int(u["start_age"])
-        ev = {e["year"]: e["type"] for e in u["events"]}
-        for k in range(min(years, case.study.horizon)):
-            cls = class_of[t]
-            if y0 + k in ev:
-                for key in ((cls, k, "sell", t, a), (cls, k, "buy", ev[y0 + k], 0)):
-                    out[key] = out.get(key, 0) + 1
-                t, a = ev[y0 + k], 1
+        cls = u.get("class")
+        if u.get("start_type"):
+            if u["unit"] not in start:
+                raise ValueError(f"unit {u['unit']}: not in the inventory")
+            cls, r, a = start[u["unit"]]
+        else:
+            r, a = None, 0
+        g = prog.graphs[cls]
+        names = row_names(g)
+        H = len(g.price)
+        ev = {e["year"]: e for e in u["events"]}
+        for k in range(min(years, H)):
+            e = ev.get(g.start_year + k)
+            act = e.get("action") if e is not None else None
+            if r is None:
+                if act == "buy":
+                    r, a = _bought_row(g, e["type"], 0), 1
+                    add((cls, k, "buy", names[r], 0))
+                continue
+            if act == "overhaul":
+                to = -1 if g.overhaul_to is None else int(g.overhaul_to[r, a])
+                if to < 0:
+                    raise ValueError(f"unit {u['unit']}: no overhaul of a {names[r]} at age {a}")
+                add((cls, k, "overhaul", names[r], a))
+                r, a = to, a + 1
+            elif act in ("replace", "sell"):
+                add((cls, k, "sell", names[r], a))
+                if act == "sell":
+                    r = None
+                    continue
+                r = _bought_row(g, e["type"], 0 if g.job is None else int(g.job[r]))
+                add((cls, k, "buy", names[r], 0))
+                a = 1
             else:
-                key = (cls, k, "keep", t, a)
-                out[key] = out.get(key, 0) + 1
+                add((cls, k, "keep", names[r], a))
                 a += 1
     return dict(sorted(out.items()))
+
+
+def _bought_row(g, type_id: str, job: int) -> int:
+    """The row a new ``type_id`` bought for ``job`` enters (not overhauled)."""
+    if g.job is None:
+        if type_id not in g.types:
+            raise ValueError(f"type {type_id}: not in class {g.class_}")
+        return g.types.index(type_id)
+    for r, tid in enumerate(g.types):
+        if tid == type_id and g.job[r] == job and g.overhauled_at[r] < 0:
+            return r
+    raise ValueError(f"type {type_id}: not in class {g.class_}")
 
 
 def make_replan_task(stage: Stage, base: Case, years: int, options: Mapping[str, Any], *,

@@ -211,9 +211,11 @@ def _safe_now(cmp: Comparison, out: list[str]) -> None:
                f"{', '.join(cmp.safe_now_from)}):")
     if buys:
         for name, act in group_units(buys):
-            out.append(f"  replace {name} with {act.split(':', 1)[1]}")
+            kind, _, t = act.partition(":")
+            out.append({"replace": f"  replace {name} with {t}", "buy": f"  buy {t} for {name} (a unit added)",
+                        "sell": f"  sell {name}, not replaced"}.get(kind, f"  {kind} {name}"))
     else:
-        out.append("  no purchase is common to every scenario's plan")
+        out.append("  no purchase, overhaul or sale is common to every scenario's plan")
     out.append(f"  keep {len(keeps)} unit(s); {n_units - len(safe)} unit(s) have first-year decisions "
                "that depend on the scenario")
 

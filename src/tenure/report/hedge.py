@@ -22,6 +22,7 @@ def hedge_text(h: Hedge) -> str:
     by = _buys_by_year_type(h)
     lines += ([f"  {y} buy {len(us):>4} × {t}" for (y, t), us in by.items()]
               or ["  commit no purchase: keep every unit"])
+    lines += [f"  {y} {act} {len(us):>4} × {t}" for (y, act, t), us in _others_by_year(h).items()]
     lines += ["", f"  {'scenario':<16}{'prob.':>7}{'cost':>16}{'own best':>16}{'regret':>14}"]
     for s in h.scenarios:
         lines.append(f"  {s.id:<16}{s.probability:>7.3f}{text_money(s.cost):>16}{text_money(s.own_optimum):>16}"
@@ -39,6 +40,18 @@ def _buys_by_year_type(h: Hedge) -> dict:
     return dict(sorted(out.items()))
 
 
+def _others_by_year(h: Hedge) -> dict:
+    out: dict = {}
+    for c in h.other_actions:
+        out.setdefault((c.year, c.action, c.type), []).append(c.unit)
+    return dict(sorted(out.items()))
+
+
+def _which(units: list) -> str:
+    """The first dozen unit names, and how many more."""
+    return ", ".join(units[:12]) + (f" and {len(units) - 12} more" if len(units) > 12 else "")
+
+
 def hedge_csv(h: Hedge) -> str:
     """``hedge.csv``: one row per committed purchase (unit, year, type)."""
     buf = io.StringIO()
@@ -53,14 +66,15 @@ def hedge_report(h: Hedge, case: Case) -> str:
     """The whole ``report.html`` of a hedge (templates/hedge.html.j2)."""
     s = case.study
     cur = str(s.start_year)
-    buy_rows = [(y, t, len(us), ", ".join(us[:12]) + (f" and {len(us) - 12} more" if len(us) > 12 else ""))
-                for (y, t), us in _buys_by_year_type(h).items()]
+    buy_rows = [(y, t, len(us), _which(us)) for (y, t), us in _buys_by_year_type(h).items()]
+    other_rows = [(y, "sold, not replaced" if act == "sell" else act, t, len(us), _which(us))
+                  for (y, act, t), us in _others_by_year(h).items()]
     rows = [(r.id, f"{r.probability:.3f}", money(r.cost), money(r.own_optimum), money(r.regret), money(r.base_cost))
             for r in h.scenarios]
     words = {"expected": "least expected present cost", "regret": "least largest regret"}[h.objective]
     return render("hedge.html.j2", page_title=f"{s.title or 'Hedge'} — hedged commitment", title=s.title or "Hedge",
                   cur=cur, first=s.start_year, n=h.commit_years, objective_words=words, buy_rows=buy_rows,
-                  scenario_rows=rows, expected=money(h.expected_cost), max_regret=money(h.max_regret),
+                  other_rows=other_rows,                   scenario_rows=rows, expected=money(h.expected_cost), max_regret=money(h.max_regret),
                   gap=pct(h.gap, 3), method=h.method, evpi=money(h.evpi), vss=money(h.vss),
                   vss_missing=h.vss is None, notes=list(h.notes) + [CAUTION],
                   capital_svg=Markup(charts.compare_capital_chart(h.scenarios, cur)),

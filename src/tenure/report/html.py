@@ -236,7 +236,7 @@ def _buys_by_type(plan) -> Counter:
     c: Counter = Counter()
     for u in plan.units:
         for ev in u.events:
-            c[ev.type] += ev.action != "overhaul"
+            c[ev.type] += bool(ev.type) and ev.action != "overhaul"  # a sale without a replacement buys nothing
     return +c
 
 
@@ -340,7 +340,8 @@ def first_years_html(plan, case: Case, n_years: int = 5) -> str:
         g = groups[key]
         names = g["units"]
         shown = ", ".join(f'<span class="nw">{e(n)}</span>' for n in names[:4])
-        rows.append((y, e(cls), len(names), e(f"{ft}, {_ages(g['ages'])}"), e(tt), money(g["price"]),
+        sold = f"{ft}, {_ages(g['ages'])}" if ft else "none (a unit added)"
+        rows.append((y, e(cls), len(names), e(sold), e(tt or "none (not replaced)"), money(g["price"]),
                      money(g["value"]), shown + (f" and {len(names) - 4} more" if len(names) > 4 else "")))
     if not rows:
         return f"<p>No replacement is planned in {s.start_year}–{last}.</p>"
@@ -366,10 +367,10 @@ def class_table_html(plan, case: Case) -> str:
     rows = []
     for c, v in (plan.by_class or {}).items():
         n = sum(1 for u in plan.units if u.class_ == c)
-        buys = sum(e.action != "overhaul" for u in plan.units if u.class_ == c for e in u.events)
+        buys = sum(bool(e.type) and e.action != "overhaul" for u in plan.units if u.class_ == c for e in u.events)
         rows.append((c, n, buys, money(v)))
-    rows.append(("all classes", len(plan.units), sum(e.action != "overhaul" for u in plan.units for e in u.events),
-                 money(plan.present_cost)))
+    rows.append(("all classes", len(plan.units), sum(bool(e.type) and e.action != "overhaul" for u in plan.units
+                                                     for e in u.events), money(plan.present_cost)))
     return table(("class", "units", "replacements", "present cost"), rows, num=(1, 2, 3))
 
 
@@ -491,21 +492,32 @@ def _commit_view(cmp: Comparison) -> dict | None:
             "num": list(range(1, len(ids) + 2)), "best": reg.least_max_regret, "notes": list(cmp.commit_notes)}
 
 
+def action_label(act: str) -> str:
+    """A first-year action code (``scenarios.first_year_actions``) in words."""
+    kind, _, t = act.partition(":")
+    return {"replace": f"replace with {t}", "buy": f"buy {t} (a unit added)",
+            "sell": "sell, not replaced"}.get(kind, act)
+
+
 def actions_text(actions: dict) -> str:
-    """``{unit: "keep" | "replace:<type>"}`` as 'replace 9: rt-diesel 7 (RT-L14#1, …); keep 69'."""
+    """``{unit: "keep" | "replace:<type>" | …}`` as 'replace 9: rt-diesel 7 (RT-L14#1, …); keep 69'."""
     if not actions:
         return "—"
     keep = sum(1 for a in actions.values() if a == "keep")
     by_type: dict[str, list[str]] = {}
+    others: dict[str, list[str]] = {}
     for unit, act in actions.items():
-        if act != "keep":
+        if act.startswith("replace:"):
             by_type.setdefault(act.split(":", 1)[1], []).append(unit)
+        elif act != "keep":
+            others.setdefault(action_label(act), []).append(unit)
     parts = []
     n_rep = sum(len(v) for v in by_type.values())
     if n_rep:
         mix = ", ".join(f"{t} {len(us)} ({', '.join(us[:3])}{', …' if len(us) > 3 else ''})"
                         for t, us in by_type.items())
         parts.append(f"replace {n_rep}: {mix}")
+    parts += [f"{label} {len(us)} ({', '.join(us[:3])}{', …' if len(us) > 3 else ''})" for label, us in others.items()]
     parts.append(f"keep {keep}")
     return "; ".join(parts)
 
@@ -516,7 +528,7 @@ def _safe_rows(cmp: Comparison) -> list[tuple]:
         grouped.setdefault(x.action, []).append(x.unit)
     rows = []
     for act, units in sorted(grouped.items(), key=lambda kv: (kv[0] == "keep", kv[0])):
-        label = f"replace with {act.split(':', 1)[1]}" if act.startswith("replace:") else act
+        label = action_label(act)
         rows.append((label, len(units), ", ".join(units[:12]) + (f" and {len(units) - 12} more" if len(units) > 12
                                                                  else "")))
     return rows

@@ -30,14 +30,15 @@ def commit_regret_table(case: Case, entries: Sequence[tuple[str, Mapping]], plan
     plan); ``own_cost`` / ``own_gap`` each scenario's own present cost [money, time 0] and proven gap.
     """
     from ..hedge.stage import Stage, make_replan_task, plan_flows, replan_task
+    from ..fleet.program import build_program
     from .overrides import case_with
 
     ids = [sid for sid, _ in entries]
     cases = {sid: (case if not sets else case_with(case, sets, where=f"scenario {sid}")) for sid, sets in entries}
     stages = {sid: Stage(sid, 0.0, dict(sets), cases[sid]) for sid, sets in entries}
     pairs = [(i, j) for i in ids if plans.get(i) for j in ids]
-    tasks = [make_replan_task(stages[j], case, years, options, fixed=plan_flows(plans[i], cases[i], years))
-             for i, j in pairs]
+    flows = {i: plan_flows(plans[i], build_program(cases[i]), years) for i in ids if plans.get(i)}
+    tasks = [make_replan_task(stages[j], case, years, options, fixed=flows[i]) for i, j in pairs]
     res = dict(zip(pairs, run_tasks(replan_task, tasks, workers=workers, cluster=cluster)))
     cost = {i: {j: (res[(i, j)].get("cost") if (i, j) in res else None) for j in ids} for i in ids}
     breaks = {i: {j: (() if cost[i][j] is not None else

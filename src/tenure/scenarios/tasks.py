@@ -30,14 +30,21 @@ def make_task(case: Case, overrides: Mapping[str, Any], options: Mapping[str, An
 
 
 def first_year_actions(plan_dict: Mapping, year: int) -> dict[str, str]:
-    """``{unit: "keep" | "replace:<type>" | "overhaul"}`` for one calendar year of a ``plan.to_dict()``."""
+    """``{unit: code}`` for one calendar year of a ``plan.to_dict()``: "keep", "replace:<type>",
+    "overhaul", "buy:<type>" (a unit the plan adds) or "sell" (sold without a replacement), for
+    every unit held in that year or acted on in it (a unit added later or sold before is left out)."""
     out = {}
     for u in plan_dict.get("units", []):
-        act = "keep"
-        for e in u["events"]:
+        held, act = bool(u.get("start_type")), None
+        for e in sorted(u["events"], key=lambda e: e["year"]):
             if e["year"] == year:
-                act = "overhaul" if e.get("action") == "overhaul" else f"replace:{e['type']}"
-        out[u["unit"]] = act
+                kind = e.get("action")
+                act = (kind if kind in ("overhaul", "sell") else
+                       f"{'buy' if kind == 'buy' else 'replace'}:{e['type']}")
+            elif e["year"] < year:
+                held = held if e.get("action") in ("overhaul", "replace") else e.get("action") == "buy"
+        if act is not None or held:
+            out[u["unit"]] = act or "keep"
     return out
 
 
