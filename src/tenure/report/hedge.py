@@ -20,9 +20,9 @@ def hedge_text(h: Hedge) -> str:
     """The terminal summary: commitment by year and type, the scenario table, EVPI and VSS."""
     lines = [f"Hedged commitment of {h.commit_years} year(s) ({h.objective}; {h.method}; gap {h.gap:.3%})", ""]
     by = _buys_by_year_type(h)
-    lines += ([f"  {y} buy {len(us):>4} × {t}" for (y, t), us in by.items()]
+    lines += ([f"  {y} {'buy':<8} {len(us):>4} × {t}" for (y, t), us in by.items()]
               or ["  commit no purchase: keep every unit"])
-    lines += [f"  {y} {act} {len(us):>4} × {t}" for (y, act, t), us in _others_by_year(h).items()]
+    lines += [f"  {y} {act:<8} {len(us):>4} × {t}" for (y, act, t), us in _others_by_year(h).items()]
     lines += ["", f"  {'scenario':<16}{'prob.':>7}{'cost':>16}{'own best':>16}{'regret':>14}"]
     for s in h.scenarios:
         lines.append(f"  {s.id:<16}{s.probability:>7.3f}{text_money(s.cost):>16}{text_money(s.own_optimum):>16}"
