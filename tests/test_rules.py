@@ -285,6 +285,20 @@ def test_year_actions_of_a_growing_and_shrinking_class_name_purchases_and_sales(
     assert "sell, not replaced 2" in actions_text(acts[2033])
 
 
+def test_compare_of_a_shrinking_class_commits_the_sale_and_skips_units_no_longer_held():
+    # 3 buses, 2 from 2030: the cheapest sale is the electric bus C (the largest market value; the
+    # plan of each scenario sells it at once), so compare lists "sell" as safe to commit now, and the
+    # second year's table does not look up the unit it no longer holds
+    from tenure.scenarios import compare
+
+    doc = rules_doc(demand=[{"class": "bus", "count_by_year": {"2030": 2}}])
+    doc["scenario"] = [{"id": "dear-bev", "set": {"asset_type.bev.price": 156000}}]
+    case = build_case(doc)
+    cmp = compare(case, list(case.scenarios), options={"gap": 0.0, "time_limit": 30.0})
+    assert {(a.unit, a.action) for a in cmp.safe_now} == {("A", "keep"), ("B", "keep"), ("C", "sell")}
+    assert all(r.first_year_actions == {"A": "keep", "B": "keep", "C": "sell"} for r in cmp.scenarios)
+
+
 def test_recost_flags_a_target_and_an_order_the_schedule_does_not_keep():
     # a plan solved without rules, re-costed under a case with a target of electric buys from 2031
     # and under one with an order of a diesel bus in 2032: the schedule (electric buys in 2031 and 2032,

@@ -285,7 +285,7 @@ def _first_years(plans: Mapping, solved: Sequence[str], y0: int):
     for y in (y0, y0 + 1):
         acts_y = {sid: _actions_in(plans[sid], y) for sid in solved}
         for u in common_units:
-            by_s = {s: acts_y[s][u] for s in solved}
+            by_s = {s: acts_y[s].get(u, "not held") for s in solved}  # sold the year before
             if len(set(by_s.values())) > 1:
                 differ.append(EarlyDifference(u, y, by_s))
     return tuple(safe), tuple(differ)
