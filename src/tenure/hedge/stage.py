@@ -158,14 +158,10 @@ def plan_flows(plan_dict: Mapping, prog: CohortProgram, years: int) -> dict[Key,
 
 def _bought_row(g, type_id: str, job: int) -> int:
     """The row a new ``type_id`` bought for ``job`` enters (not overhauled)."""
-    if g.job is None:
-        if type_id not in g.types:
-            raise ValueError(f"type {type_id}: not in class {g.class_}")
-        return g.types.index(type_id)
-    for r, tid in enumerate(g.types):
-        if tid == type_id and g.job[r] == job and g.overhauled_at[r] < 0:
-            return r
-    raise ValueError(f"type {type_id}: not in class {g.class_}")
+    try:
+        return g.start_row(type_id, None if g.job is None else g.job_usage[job])
+    except (KeyError, ValueError):
+        raise ValueError(f"type {type_id}: not in class {g.class_}") from None
 
 
 def make_replan_task(stage: Stage, base: Case, years: int, options: Mapping[str, Any], *,

@@ -20,9 +20,10 @@ def hedge_text(h: Hedge) -> str:
     """The terminal summary: commitment by year and type, the scenario table, EVPI and VSS."""
     lines = [f"Hedged commitment of {h.commit_years} year(s) ({h.objective}; {h.method}; gap {h.gap:.3%})", ""]
     by = _buys_by_year_type(h)
+    others = [f"  {y} {act:<8} {len(us):>4} × {t}" for (y, act, t), us in _others_by_year(h).items()]
     lines += ([f"  {y} {'buy':<8} {len(us):>4} × {t}" for (y, t), us in by.items()]
-              or ["  commit no purchase: keep every unit"])
-    lines += [f"  {y} {act:<8} {len(us):>4} × {t}" for (y, act, t), us in _others_by_year(h).items()]
+              or ["  commit no purchase" + ("" if others else ": keep every unit")])
+    lines += others
     lines += ["", f"  {'scenario':<16}{'prob.':>7}{'cost':>16}{'own best':>16}{'regret':>14}"]
     for s in h.scenarios:
         lines.append(f"  {s.id:<16}{s.probability:>7.3f}{text_money(s.cost):>16}{text_money(s.own_optimum):>16}"
@@ -74,7 +75,8 @@ def hedge_report(h: Hedge, case: Case) -> str:
     words = {"expected": "least expected present cost", "regret": "least largest regret"}[h.objective]
     return render("hedge.html.j2", page_title=f"{s.title or 'Hedge'} — hedged commitment", title=s.title or "Hedge",
                   cur=cur, first=s.start_year, n=h.commit_years, objective_words=words, buy_rows=buy_rows,
-                  other_rows=other_rows,                   scenario_rows=rows, expected=money(h.expected_cost), max_regret=money(h.max_regret),
+                  other_rows=other_rows, scenario_rows=rows, expected=money(h.expected_cost),
+                  max_regret=money(h.max_regret),
                   gap=pct(h.gap, 3), method=h.method, evpi=money(h.evpi), vss=money(h.vss),
                   vss_missing=h.vss is None, notes=list(h.notes) + [CAUTION],
                   capital_svg=Markup(charts.compare_capital_chart(h.scenarios, cur)),

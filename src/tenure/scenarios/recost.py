@@ -105,40 +105,37 @@ def _unit_cost(case: Case, start, events, v: np.ndarray, grids: dict, chain_cost
         y = y0 + k
         e = ev.get(y)
         if t is None:  # not held: only a purchase from nothing starts the unit
-            if e is not None and e.get("type"):
-                new = _bought(types, e["type"], y, cls, broken)
-                p = curves.price(new, y, y0)
-                total += v[k] * p + v[k + 1] * _year_cash(case, new, 0, None, None, u, y)
-                capital[k] += p
-                buys[k][new.class_] += 1
-                t, a = new, 1
-            elif e is not None or y in ovh:
-                broken[f"{y}: the plan acts on a unit it does not hold"] += 1
-            continue
-        if y in ovh:
+            if e is None or not e.get("type"):
+                if e is not None or y in ovh:
+                    broken[f"{y}: the plan acts on a unit it does not hold"] += 1
+                continue
+        elif y in ovh:
             ov = _overhaul_of(t, a, oh, y, broken)
             oh = a
             total += v[k] * ov.cost + v[k + 1] * _year_cash(case, t, a, oh, ov, u, y)
             capital[k] += ov.cost
             a += 1
+            continue
         elif e is not None:
             total -= v[k] * _sale_cash(case, t, a, oh, u, y)
             proceeds[k] += float(derived.value_at(t, a, y, y0, derived.ratio(t, u)))
             if not e.get("type"):  # sold without a replacement (a shrinking class)
                 t, a, oh = None, 0, None
                 continue
-            new = _bought(types, e["type"], y, cls, broken)
-            p = curves.price(new, y, y0)
-            total += v[k] * p + v[k + 1] * _year_cash(case, new, 0, None, None, u, y)
-            capital[k] += p
-            buys[k][new.class_] += 1
-            t, a, oh = new, 1, None
         else:
             top = derived.row_max_age(t, u, oh is not None)
             if a >= top:
                 broken[f"{y}: keeps a {t.id} at age {a}, its max age is {top}"] += 1
             total += v[k + 1] * _year_cash(case, t, a, oh, ov, u, y)
             a += 1
+            continue
+        # a purchase: after the sale above, or of a unit the plan adds
+        new = _bought(types, e["type"], y, cls, broken)
+        p = curves.price(new, y, y0)
+        total += v[k] * p + v[k + 1] * _year_cash(case, new, 0, None, None, u, y)
+        capital[k] += p
+        buys[k][new.class_] += 1
+        t, a, oh = new, 1, None
     if t is None:
         return total
     return total + v[H] * _end_cost(case, t, a, oh, u, chain_costs.get(t.class_))

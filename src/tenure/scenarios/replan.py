@@ -29,8 +29,8 @@ def commit_regret_table(case: Case, entries: Sequence[tuple[str, Mapping]], plan
     ``entries`` (scenario id, overrides), base first; ``plans`` id → ``Plan.to_dict()`` (None: no
     plan); ``own_cost`` / ``own_gap`` each scenario's own present cost [money, time 0] and proven gap.
     """
-    from ..hedge.stage import Stage, make_replan_task, plan_flows, replan_task
     from ..fleet.program import build_program
+    from ..hedge.stage import Stage, make_replan_task, plan_flows, replan_task
     from .overrides import case_with
 
     ids = [sid for sid, _ in entries]

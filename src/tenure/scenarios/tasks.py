@@ -41,8 +41,8 @@ def first_year_actions(plan_dict: Mapping, year: int) -> dict[str, str]:
                 kind = e.get("action")
                 act = (kind if kind in ("overhaul", "sell") else
                        f"{'buy' if kind == 'buy' else 'replace'}:{e['type']}")
-            elif e["year"] < year:
-                held = held if e.get("action") in ("overhaul", "replace") else e.get("action") == "buy"
+            elif e["year"] < year and e.get("action") in ("buy", "sell"):
+                held = e.get("action") == "buy"
         if act is not None or held:
             out[u["unit"]] = act or "keep"
     return out
